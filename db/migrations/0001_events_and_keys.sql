@@ -24,6 +24,8 @@ create table event (
     magnitude_type text             not null,
     status         text             not null check (status in ('automatic', 'reviewed', 'deleted')),
     version        integer          not null default 1,
+    -- fields that the latest revision changed; written in the upsert from the locked current row
+    last_changed   text[]           not null default '{}',
     created_at     timestamptz      not null default now(),
     updated_at     timestamptz      not null default now(),
     constraint event_source_id unique (source, event_id)

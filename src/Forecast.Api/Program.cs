@@ -1,6 +1,59 @@
-var builder = WebApplication.CreateBuilder(args);
-var app = builder.Build();
-app.MapGet("/health/live", () => "ok");
-app.Run();
+using Forecast.Api.Auth;
+using Forecast.Api.Events;
+using Forecast.Api.Infrastructure;
+using Forecast.Api.Keys;
+using Forecast.Storage;
+using Forecast.Storage.Events;
+using Forecast.Storage.Keys;
+using Microsoft.AspNetCore.Authentication;
 
+var builder = WebApplication.CreateBuilder(args);
+StorageDefaults.Apply();
+
+var connectionString = builder.Configuration.GetConnectionString("Forecast")
+    ?? throw new InvalidOperationException("ConnectionStrings:Forecast is not set.");
+
+builder.Services.AddOptions<ServiceOptions>().BindConfiguration(ServiceOptions.Section)
+    .ValidateDataAnnotations().ValidateOnStart();
+builder.Services.AddOptions<IngestOptions>().BindConfiguration(IngestOptions.Section)
+    .ValidateDataAnnotations().ValidateOnStart();
+builder.WebHost.ConfigureKestrel((context, kestrel) =>
+    kestrel.Limits.MaxRequestBodySize = context.Configuration.GetValue(
+        $"{IngestOptions.Section}:{nameof(IngestOptions.MaxBodyBytes)}", new IngestOptions().MaxBodyBytes));
+
+builder.Services.AddProblemDetails();
+builder.Services.AddSingleton(TimeProvider.System);
+builder.Services.AddNpgsqlDataSource(connectionString);
+builder.Services.AddSingleton<EventStore>();
+builder.Services.AddSingleton<ApiKeyStore>();
+builder.Services.AddMemoryCache();
+builder.Services.AddSingleton<ApiKeyCache>();
+builder.Services.AddAuthentication(Policies.Scheme)
+    .AddScheme<AuthenticationSchemeOptions, ApiKeyHandler>(Policies.Scheme, null);
+Policies.Add(builder.Services.AddAuthorizationBuilder());
+builder.Services.AddHealthChecks().AddNpgSql(tags: ["ready"], timeout: TimeSpan.FromSeconds(3));
+builder.Services.ConfigureHttpJsonOptions(o =>
+    o.SerializerOptions.Converters.Add(new System.Text.Json.Serialization.JsonStringEnumConverter()));
+builder.Services.AddEndpointsApiExplorer();
+builder.Services.AddSwaggerGen(o => o.SwaggerDoc("v1", new() { Title = "Forecast", Version = "v1",
+    Description = "Aftershock forecasts from a live event catalog. Send API keys as 'Authorization: Bearer <key>'." }));
+
+var app = builder.Build();
+
+app.UseExceptionHandler();
+app.UseStatusCodePages();
+app.UseRequestId();
+app.UseSwagger();
+app.UseSwaggerUI(o => o.RoutePrefix = "swagger");
+app.UseAuthentication();
+app.UseAuthorization();
+
+app.MapOperations();
+app.MapEvents();
+app.MapKeys();
+
+await app.PrepareDatabaseAsync();
+await app.RunAsync();
+
+/// <summary>The entry point, visible to the tests' WebApplicationFactory.</summary>
 public partial class Program;

@@ -1,0 +1,214 @@
+using System.Globalization;
+using System.Text;
+using System.Text.Json;
+using Forecast.Api.Auth;
+using Forecast.Api.Infrastructure;
+using Forecast.Storage.Events;
+using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.Extensions.Options;
+
+namespace Forecast.Api.Events;
+
+public static class EventEndpoints
+{
+    const int ItemsListedUpTo = 1_000;
+    const int MaxPageSize = 1_000;
+
+    public static RouteGroupBuilder MapEvents(this IEndpointRouteBuilder app)
+    {
+        var group = app.MapGroup("/v1/events").WithTags("Events");
+        group.MapPost("/", PostEvents).WithName("PostEvents").RequireAuthorization(Policies.Feeder)
+            .Accepts<EventSubmission>("application/json")
+            .WithSummary("Submit one event or an array of events (all or nothing; idempotent; revisions kept)");
+        group.MapGet("/", QueryEvents).WithName("QueryEvents").RequireAuthorization()
+            .WithSummary("Events in time order, filtered by time, magnitude, box or radius; paged by cursor");
+        group.MapGet("/{source}/{**id}", GetEvent).WithName("GetEvent").RequireAuthorization()
+            .WithSummary("One event with its revision history");
+        return group;
+    }
+
+    static async Task<Results<Created<EventWriteResult>, Ok<EventWriteResult>, Ok<BatchWriteResult>,
+        ValidationProblem, ProblemHttpResult>> PostEvents(
+        HttpRequest request, EventStore store, IOptions<IngestOptions> options, TimeProvider clock,
+        CancellationToken ct)
+    {
+        var limits = options.Value;
+        if (!IsJson(request.ContentType))
+            return Problems.UnsupportedMediaType(request.ContentType, "application/json");
+        if (request.ContentLength > limits.MaxBodyBytes) return Problems.TooLarge(limits.MaxBodyBytes);
+
+        JsonDocument document;
+        try
+        {
+            document = await JsonDocument.ParseAsync(request.Body, new JsonDocumentOptions { MaxDepth = 8 }, ct);
+        }
+        catch (JsonException e)
+        {
+            return Problems.Malformed(
+                $"The body is not valid JSON (line {e.LineNumber + 1}, byte {e.BytePositionInLine + 1}): " +
+                "check quoting, commas and that the text is UTF-8.");
+        }
+        catch (BadHttpRequestException e) when (e.StatusCode == StatusCodes.Status413PayloadTooLarge)
+        {
+            return Problems.TooLarge(limits.MaxBodyBytes);
+        }
+
+        using (document)
+        {
+            var root = document.RootElement;
+            if (root.ValueKind == JsonValueKind.Array && root.GetArrayLength() > limits.MaxEventsPerPost)
+            {
+                return Problems.BadRequest("batch-too-large", "Too many events in one request",
+                    $"Send at most {limits.MaxEventsPerPost} events per request; this one has {root.GetArrayLength()}.");
+            }
+            var parsed = EventJson.Read(root, clock.GetUtcNow().UtcDateTime);
+            if (parsed.Errors.Count == 0) AddDuplicateErrors(parsed.Events, parsed.Errors);
+            if (parsed.Errors.Count > 0)
+            {
+                var detail = parsed.IsArray
+                    ? $"{Math.Max(parsed.BadItems, 1)} of {root.GetArrayLength()} events are not valid; nothing was stored."
+                    : "The event is not valid; nothing was stored.";
+                if (parsed.Errors.Count >= EventJson.MaxReportedErrors)
+                    detail += $" Only the first {EventJson.MaxReportedErrors} problems are listed.";
+                return Problems.Invalid(parsed.Errors, detail);
+            }
+
+            var summary = await store.UpsertAsync(parsed.Events, Policies.KeyId(request.HttpContext.User), ct);
+            if (!parsed.IsArray)
+            {
+                var item = View(summary.Items[0]);
+                return summary.Created == 1
+                    ? TypedResults.Created(EventUrl(item.Source, item.Id), item)
+                    : TypedResults.Ok(item);
+            }
+            return TypedResults.Ok(new BatchWriteResult(summary.Total, summary.Created, summary.Revised,
+                summary.Unchanged, summary.Total <= ItemsListedUpTo ? summary.Items.Select(View).ToList() : null));
+        }
+    }
+
+    // One batch naming the same event twice would make its outcome depend on row order: refuse it.
+    static void AddDuplicateErrors(IReadOnlyList<EventInput> events, Dictionary<string, string[]> errors)
+    {
+        var first = new Dictionary<(string, string), int>();
+        for (var i = 0; i < events.Count && errors.Count < EventJson.MaxReportedErrors; i++)
+        {
+            var key = (events[i].Source, events[i].EventId);
+            if (!first.TryAdd(key, i))
+                errors[$"[{i}].id"] = [$"repeats the event of item [{first[key]}]; send each event once per batch"];
+        }
+    }
+
+    static async Task<Results<Ok<EventWithHistory>, ProblemHttpResult>> GetEvent(
+        string source, string id, EventStore store, CancellationToken ct)
+    {
+        var row = await store.FindAsync(source, id, ct);
+        if (row is null) return Problems.NotFound("event", $"{source}/{id}");
+        var revisions = await store.RevisionsAsync(row.Id, ct);
+        return TypedResults.Ok(new EventWithHistory(EventView.From(row), revisions.Select(RevisionView.From).ToList()));
+    }
+
+    /// <param name="from">Origin time at or after, ISO 8601 with offset.</param>
+    /// <param name="to">Origin time before, ISO 8601 with offset.</param>
+    /// <param name="latitude">Centre of a radius search (with longitude and radiusKm).</param>
+    /// <param name="cursor">The <c>next</c> value of the previous page.</param>
+    static async Task<Results<Ok<EventPage>, ValidationProblem>> QueryEvents(
+        EventStore store, CancellationToken ct,
+        string? from = null, string? to = null, string? minMagnitude = null, string? maxMagnitude = null,
+        string? minLatitude = null, string? maxLatitude = null, string? minLongitude = null,
+        string? maxLongitude = null, string? latitude = null, string? longitude = null, string? radiusKm = null,
+        bool includeDeleted = false, string? cursor = null, int limit = 100)
+    {
+        var errors = new Dictionary<string, string[]>();
+        var q = new EventQuery
+        {
+            FromUtc = QueryTime(nameof(from), from, errors),
+            ToUtc = QueryTime(nameof(to), to, errors),
+            MinMagnitude = QueryNumber(nameof(minMagnitude), minMagnitude, -2, 10, errors),
+            MaxMagnitude = QueryNumber(nameof(maxMagnitude), maxMagnitude, -2, 10, errors),
+            MinLatitude = QueryNumber(nameof(minLatitude), minLatitude, -90, 90, errors),
+            MaxLatitude = QueryNumber(nameof(maxLatitude), maxLatitude, -90, 90, errors),
+            MinLongitude = QueryNumber(nameof(minLongitude), minLongitude, -180, 180, errors),
+            MaxLongitude = QueryNumber(nameof(maxLongitude), maxLongitude, -180, 180, errors),
+            IncludeDeleted = includeDeleted,
+            After = DecodeCursor(cursor, errors),
+            Limit = limit,
+        };
+        if (limit is < 1 or > MaxPageSize) errors["limit"] = [$"must be between 1 and {MaxPageSize}"];
+        if ((q.MinLongitude is null) != (q.MaxLongitude is null))
+            errors["minLongitude"] = ["minLongitude and maxLongitude go together"];
+
+        var lat = QueryNumber(nameof(latitude), latitude, -90, 90, errors);
+        var lon = QueryNumber(nameof(longitude), longitude, -180, 180, errors);
+        var r = QueryNumber(nameof(radiusKm), radiusKm, 0, 20_040, errors);
+        if (lat is not null || lon is not null || r is not null)
+        {
+            if (lat is null || lon is null || r is null)
+                errors["radiusKm"] = ["latitude, longitude and radiusKm go together"];
+            else q = q with { Circle = (lat.Value, lon.Value, r.Value) };
+        }
+        if (errors.Count > 0) return Problems.Invalid(errors, "Some query parameters are not valid.");
+
+        var rows = await store.QueryAsync(q, ct);
+        var next = rows.Count == limit ? EncodeCursor(rows[^1]) : null;
+        return TypedResults.Ok(new EventPage(rows.Select(EventView.From).ToList(), next));
+    }
+
+    static DateTime? QueryTime(string name, string? text, Dictionary<string, string[]> errors)
+    {
+        if (text is null) return null;
+        var t = EventJson.ParseUtc(text);
+        if (t is null) errors[name] = ["must be an ISO 8601 time with 'Z' or an offset"];
+        return t;
+    }
+
+    static double? QueryNumber(string name, string? text, double min, double max, Dictionary<string, string[]> errors)
+    {
+        if (text is null) return null;
+        if (!double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out var v) || !double.IsFinite(v)
+            || v < min || v > max)
+        {
+            errors[name] = [string.Create(CultureInfo.InvariantCulture, $"must be a number from {min} to {max}")];
+            return null;
+        }
+        return v;
+    }
+
+    // The cursor is opaque to clients: base64url of "<origin time ticks>:<row id>".
+    static string EncodeCursor(EventRow last) => Convert.ToBase64String(
+            Encoding.ASCII.GetBytes(string.Create(CultureInfo.InvariantCulture, $"{last.OriginTime.Ticks}:{last.Id}")))
+        .TrimEnd('=').Replace('+', '-').Replace('/', '_');
+
+    static (DateTime, long)? DecodeCursor(string? cursor, Dictionary<string, string[]> errors)
+    {
+        if (cursor is null) return null;
+        try
+        {
+            var b64 = cursor.Replace('-', '+').Replace('_', '/');
+            b64 = b64.PadRight(b64.Length + (4 - b64.Length % 4) % 4, '=');
+            var parts = Encoding.ASCII.GetString(Convert.FromBase64String(b64)).Split(':');
+            if (parts.Length == 2 && long.TryParse(parts[0], CultureInfo.InvariantCulture, out var ticks)
+                && long.TryParse(parts[1], CultureInfo.InvariantCulture, out var id)
+                && ticks >= DateTime.MinValue.Ticks && ticks <= DateTime.MaxValue.Ticks)
+            {
+                return (new DateTime(ticks, DateTimeKind.Utc), id);
+            }
+        }
+        catch (FormatException)
+        {
+        }
+        errors["cursor"] = ["is not a cursor this service issued; pass the 'next' value of the previous page"];
+        return null;
+    }
+
+    static EventWriteResult View(EventUpsertItem i) =>
+        new(i.Source, i.EventId, i.Outcome.ToString().ToLowerInvariant(), i.Version);
+
+    public static string EventUrl(string source, string id) =>
+        $"/v1/events/{Uri.EscapeDataString(source)}/{string.Join('/', id.Split('/').Select(Uri.EscapeDataString))}";
+
+    static bool IsJson(string? contentType) =>
+        contentType is not null
+        && Microsoft.Net.Http.Headers.MediaTypeHeaderValue.TryParse(contentType, out var m)
+        && (m.MediaType.Equals("application/json", StringComparison.OrdinalIgnoreCase)
+            || m.MediaType.Value?.EndsWith("+json", StringComparison.OrdinalIgnoreCase) == true);
+}

@@ -1,0 +1,168 @@
+using System.Globalization;
+using System.Text.Json;
+using Forecast.Core.Events;
+using Forecast.Storage.Events;
+
+namespace Forecast.Api.Events;
+
+/// <summary>Reads the JSON event format (one object or an array of them) and checks every field.</summary>
+/// <remarks>
+/// The document is walked by hand rather than deserialised so that every bad item and field is reported at once,
+/// keyed like <c>[3].latitude</c>, instead of stopping at the first.
+/// </remarks>
+public static class EventJson
+{
+    public const int MaxReportedErrors = 200;
+
+    static readonly HashSet<string> Known =
+        ["id", "source", "time", "latitude", "longitude", "depthKm", "magnitude", "magnitudeType", "status"];
+
+    public sealed record Parsed(
+        IReadOnlyList<EventInput> Events, Dictionary<string, string[]> Errors, bool IsArray, int BadItems);
+
+    public static Parsed Read(JsonElement root, DateTime nowUtc)
+    {
+        var errors = new Dictionary<string, string[]>();
+        var events = new List<EventInput>();
+        if (root.ValueKind == JsonValueKind.Array)
+        {
+            int i = 0, bad = 0;
+            foreach (var item in root.EnumerateArray())
+            {
+                if (ReadOne(item, $"[{i}].", nowUtc, errors) is { } e) events.Add(e);
+                else bad++;
+                i++;
+            }
+            if (i == 0) Add(errors, "", "the array holds no events");
+            return new Parsed(events, errors, true, bad);
+        }
+        var single = ReadOne(root, "", nowUtc, errors);
+        return new Parsed(single is null ? [] : [single], errors, false, single is null ? 1 : 0);
+    }
+
+    static EventInput? ReadOne(JsonElement item, string at, DateTime nowUtc, Dictionary<string, string[]> errors)
+    {
+        if (item.ValueKind != JsonValueKind.Object)
+        {
+            Add(errors, at.TrimEnd('.'), "must be an event object");
+            return null;
+        }
+        var before = errors.Count;
+        var seen = new HashSet<string>();
+        foreach (var property in item.EnumerateObject())
+        {
+            if (!Known.Contains(property.Name)) Add(errors, at + property.Name, "is not a known field");
+            else if (!seen.Add(property.Name)) Add(errors, at + property.Name, "appears more than once");
+        }
+
+        var id = Text(item, "id", at, errors, EventRules.CheckId);
+        var source = Text(item, "source", at, errors, EventRules.CheckSource);
+        var magnitudeType = Text(item, "magnitudeType", at, errors, EventRules.CheckMagnitudeType);
+        var status = item.TryGetProperty("status", out _)
+            ? Text(item, "status", at, errors, EventRules.CheckStatus)
+            : "automatic";
+        var time = Time(item, at, nowUtc, errors);
+        var latitude = Number(item, "latitude", at, errors, EventRules.CheckLatitude);
+        var longitude = Number(item, "longitude", at, errors, EventRules.CheckLongitude);
+        var depthKm = Number(item, "depthKm", at, errors, EventRules.CheckDepthKm);
+        var magnitude = Number(item, "magnitude", at, errors, EventRules.CheckMagnitude);
+
+        if (errors.Count > before) return null;
+        return new EventInput(source!, id!, time!.Value, latitude!.Value, longitude!.Value, depthKm!.Value,
+            magnitude!.Value, magnitudeType!, status!);
+    }
+
+    static string? Text(JsonElement item, string name, string at, Dictionary<string, string[]> errors,
+        Func<string?, string?> check)
+    {
+        if (!item.TryGetProperty(name, out var v) || v.ValueKind == JsonValueKind.Null)
+        {
+            Add(errors, at + name, "is required");
+            return null;
+        }
+        if (v.ValueKind != JsonValueKind.String)
+        {
+            Add(errors, at + name, "must be a string");
+            return null;
+        }
+        var s = v.GetString();
+        if (check(s) is { } why)
+        {
+            Add(errors, at + name, why);
+            return null;
+        }
+        return s;
+    }
+
+    static double? Number(JsonElement item, string name, string at, Dictionary<string, string[]> errors,
+        Func<double, string?> check)
+    {
+        if (!item.TryGetProperty(name, out var v) || v.ValueKind == JsonValueKind.Null)
+        {
+            Add(errors, at + name, "is required");
+            return null;
+        }
+        if (v.ValueKind != JsonValueKind.Number)
+        {
+            Add(errors, at + name, "must be a number (NaN and Infinity are not numbers in JSON)");
+            return null;
+        }
+        if (!v.TryGetDouble(out var d) || !double.IsFinite(d))
+        {
+            Add(errors, at + name, "must be a finite number");
+            return null;
+        }
+        if (check(d) is { } why)
+        {
+            Add(errors, at + name, why);
+            return null;
+        }
+        return d;
+    }
+
+    static DateTime? Time(JsonElement item, string at, DateTime nowUtc, Dictionary<string, string[]> errors)
+    {
+        const string name = "time";
+        if (!item.TryGetProperty(name, out var v) || v.ValueKind != JsonValueKind.String)
+        {
+            Add(errors, at + name, v.ValueKind == JsonValueKind.Undefined || v.ValueKind == JsonValueKind.Null
+                ? "is required"
+                : "must be an ISO 8601 string");
+            return null;
+        }
+        var utc = ParseUtc(v.GetString());
+        if (utc is null)
+        {
+            Add(errors, at + name, "must be an ISO 8601 time with 'Z' or an offset, e.g. 2026-03-04T05:06:07.8Z");
+            return null;
+        }
+        if (EventRules.CheckTime(utc.Value, nowUtc) is { } why)
+        {
+            Add(errors, at + name, why);
+            return null;
+        }
+        return utc;
+    }
+
+    /// <summary>Parses an ISO 8601 time that names its offset; a time without one is ambiguous and refused.</summary>
+    /// <remarks>PostgreSQL keeps microseconds, so the value is truncated to whole microseconds here: a re-post of
+    /// the same text then compares equal to what was stored.</remarks>
+    public static DateTime? ParseUtc(string? text)
+    {
+        if (string.IsNullOrWhiteSpace(text) || text.Length > 40) return null;
+        var t = text.Trim();
+        var hasOffset = t.EndsWith('Z') || t.EndsWith('z')
+            || (t.Length > 6 && (t[^6] == '+' || t[^6] == '-') && t[^3] == ':');
+        if (!hasOffset || t.IndexOf('T', StringComparison.OrdinalIgnoreCase) < 0) return null;
+        if (!DateTimeOffset.TryParse(t, CultureInfo.InvariantCulture, DateTimeStyles.AssumeUniversal, out var dto))
+            return null;
+        var utc = dto.UtcDateTime;
+        return new DateTime(utc.Ticks - utc.Ticks % 10, DateTimeKind.Utc);
+    }
+
+    static void Add(Dictionary<string, string[]> errors, string key, string message)
+    {
+        if (errors.Count >= MaxReportedErrors && !errors.ContainsKey(key)) return;
+        errors[key] = errors.TryGetValue(key, out var old) ? [.. old, message] : [message];
+    }
+}

@@ -1,0 +1,27 @@
+using System.ComponentModel.DataAnnotations;
+
+namespace Forecast.Api.Infrastructure;
+
+/// <summary>Section <c>Forecast</c>: start-up behaviour.</summary>
+public sealed class ServiceOptions
+{
+    public const string Section = "Forecast";
+
+    /// <summary>Apply pending migrations at start-up (otherwise run <c>forecast migrate</c>).</summary>
+    public bool MigrateOnStart { get; init; } = true;
+
+    /// <summary>When set and no active admin key exists, this key is registered as admin.</summary>
+    [MinLength(32, ErrorMessage = "Forecast:BootstrapAdminKey must be at least 32 characters long.")]
+    public string? BootstrapAdminKey { get; init; }
+}
+
+/// <summary>Section <c>Ingest</c>: limits on event submissions.</summary>
+public sealed class IngestOptions
+{
+    public const string Section = "Ingest";
+
+    [Range(1, 1_000_000)] public int MaxEventsPerPost { get; init; } = 200_000;
+
+    /// <summary>Largest request body accepted anywhere, in bytes (100,000 JSON events take about 20 MB).</summary>
+    [Range(1_024, 1L << 31)] public long MaxBodyBytes { get; init; } = 64L * 1024 * 1024;
+}
