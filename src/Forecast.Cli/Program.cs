@@ -1,1 +1,8 @@
-Console.WriteLine("forecast");
+using System.CommandLine;
+using Forecast.Cli;
+
+var root = new RootCommand("forecast: aftershock forecasting tools (fit a catalog, simulate, manage the database)");
+root.Subcommands.Add(DatabaseCommands.Migrate());
+root.Subcommands.Add(DatabaseCommands.Keys());
+root.Subcommands.Add(DemoCommand.Create());
+return await root.Parse(args).InvokeAsync();

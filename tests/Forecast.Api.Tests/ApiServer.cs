@@ -29,7 +29,7 @@ public sealed class ApiServer : IAsyncLifetime
             b.UseSetting("Logging:LogLevel:Default", "Warning");
             b.UseEnvironment("Production");
         });
-        _factory.UseKestrel(0);
+        _factory.UseKestrel(k => k.Listen(System.Net.IPAddress.Loopback, 0));
         _factory.StartServer();
         using var probe = _factory.CreateClient();
         BaseAddress = probe.BaseAddress!;

@@ -56,6 +56,7 @@ public sealed class TestDatabase : IAsyncLifetime
             await _container.DisposeAsync();
             return;
         }
+        if (string.IsNullOrEmpty(_name) || string.IsNullOrEmpty(ConnectionString)) return;
         await using var admin = new NpgsqlConnection(_serverConnectionString);
         await admin.OpenAsync();
         await using var drop = new NpgsqlCommand($"drop database if exists {_name} with (force)", admin);

@@ -12,9 +12,22 @@ public sealed record EventRow(
     DateTime CreatedAt, DateTime UpdatedAt);
 
 /// <summary>One version of an event in its append-only history.</summary>
-public sealed record EventRevisionRow(
-    int Version, DateTime RecordedAt, long? KeyId, string[] Changed, DateTime OriginTime, double Latitude,
-    double Longitude, double DepthKm, double Magnitude, string MagnitudeType, string Status);
+/// <remarks>A property record rather than a positional one: Dapper hands text[] to constructors as
+/// <see cref="Array"/>, but sets a <c>string[]</c> property correctly.</remarks>
+public sealed record EventRevisionRow
+{
+    public int Version { get; init; }
+    public DateTime RecordedAt { get; init; }
+    public long? KeyId { get; init; }
+    public string[] Changed { get; init; } = [];
+    public DateTime OriginTime { get; init; }
+    public double Latitude { get; init; }
+    public double Longitude { get; init; }
+    public double DepthKm { get; init; }
+    public double Magnitude { get; init; }
+    public string MagnitudeType { get; init; } = "";
+    public string Status { get; init; } = "";
+}
 
 /// <summary>What one upsert did to each event it was given.</summary>
 public enum EventOutcome { Created, Revised, Unchanged }

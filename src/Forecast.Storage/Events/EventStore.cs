@@ -104,28 +104,26 @@ public sealed class EventStore(NpgsqlDataSource db)
                        magnitude_type, status
                 from written
             )
-            select s.ord, w.version
-            from written w join event_stage s on s.source = w.source and s.event_id = w.event_id
+            -- Unchanged events keep the version the statement's snapshot saw.
+            select s.ord, coalesce(w.version, e.version) as version, w.version is not null as written
+            from event_stage s
+            left join written w on w.source = s.source and w.event_id = s.event_id
+            left join event e on e.source = s.source and e.event_id = s.event_id
             """;
-        var written = (await conn.QueryAsync<(int Ord, int Version)>(
-            new CommandDefinition(upsert, new { keyId }, tx, cancellationToken: ct))).ToArray();
+        var rows = await conn.QueryAsync<(int Ord, int Version, bool Written)>(
+            new CommandDefinition(upsert, new { keyId }, tx, cancellationToken: ct));
         await tx.CommitAsync(ct);
 
-        var versions = new int[events.Count];
-        foreach (var (ord, version) in written) versions[ord] = version;
         var items = new EventUpsertItem[events.Count];
         int created = 0, revised = 0;
-        for (var i = 0; i < events.Count; i++)
+        foreach (var (ord, version, written) in rows)
         {
-            var outcome = versions[i] switch
-            {
-                0 => EventOutcome.Unchanged,
-                1 => EventOutcome.Created,
-                _ => EventOutcome.Revised,
-            };
+            var outcome = !written ? EventOutcome.Unchanged
+                : version == 1 ? EventOutcome.Created
+                : EventOutcome.Revised;
             if (outcome == EventOutcome.Created) created++;
             if (outcome == EventOutcome.Revised) revised++;
-            items[i] = new EventUpsertItem(events[i].Source, events[i].EventId, outcome, versions[i]);
+            items[ord] = new EventUpsertItem(events[ord].Source, events[ord].EventId, outcome, version);
         }
         return new UpsertSummary(created, revised, events.Count - created - revised, items);
     }
