@@ -5,4 +5,5 @@ var root = new RootCommand("forecast: aftershock forecasting tools (fit a catalo
 root.Subcommands.Add(DatabaseCommands.Migrate());
 root.Subcommands.Add(DatabaseCommands.Keys());
 root.Subcommands.Add(DemoCommand.Create());
+root.Subcommands.Add(BenchCommand.Create());
 return await root.Parse(args).InvokeAsync();

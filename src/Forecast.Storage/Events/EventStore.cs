@@ -67,6 +67,9 @@ public sealed class EventStore(NpgsqlDataSource db)
             }
             await copy.CompleteAsync(ct);
         }
+        // A temporary table has no statistics until analysed; without them the planner guesses a handful of
+        // rows and may choose nested loops over a 100,000-row batch.
+        await conn.ExecuteAsync(new CommandDefinition("analyze event_stage", transaction: tx, cancellationToken: ct));
 
         // The SET list reads the locked current row (e.*) against the new values (excluded.*): that is
         // where "what changed" is known for certain, even when another batch revised the event a moment ago.
