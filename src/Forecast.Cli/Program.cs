@@ -2,6 +2,8 @@ using System.CommandLine;
 using Forecast.Cli;
 
 var root = new RootCommand("forecast: aftershock forecasting tools (fit a catalog, simulate, manage the database)");
+root.Subcommands.Add(FitCommand.Create());
+root.Subcommands.Add(SimulateCommand.Create());
 root.Subcommands.Add(DatabaseCommands.Migrate());
 root.Subcommands.Add(DatabaseCommands.Keys());
 root.Subcommands.Add(DemoCommand.Create());

@@ -30,9 +30,10 @@ public static class EventEndpoints
     static async Task<Results<Created<EventWriteResult>, Ok<EventWriteResult>, Ok<BatchWriteResult>,
         ValidationProblem, ProblemHttpResult>> PostEvents(
         HttpRequest request, EventStore store, IOptions<IngestOptions> options, TimeProvider clock,
-        CancellationToken ct)
+        ILoggerFactory logs, CancellationToken ct)
     {
         var limits = options.Value;
+        var started = System.Diagnostics.Stopwatch.GetTimestamp();
         if (!IsJson(request.ContentType))
             return Problems.UnsupportedMediaType(request.ContentType, "application/json");
         if (request.ContentLength > limits.MaxBodyBytes) return Problems.TooLarge(limits.MaxBodyBytes);
@@ -73,7 +74,13 @@ public static class EventEndpoints
                 return Problems.Invalid(parsed.Errors, detail);
             }
 
+            var validated = System.Diagnostics.Stopwatch.GetTimestamp();
             var summary = await store.UpsertAsync(parsed.Events, Policies.KeyId(request.HttpContext.User), ct);
+            logs.CreateLogger("Forecast.Ingest").LogInformation(
+                "Stored {Count} events ({Created} new, {Revised} revised): read and checked in {ReadMs:F0} ms, stored in {StoreMs:F0} ms",
+                summary.Total, summary.Created, summary.Revised,
+                System.Diagnostics.Stopwatch.GetElapsedTime(started, validated).TotalMilliseconds,
+                System.Diagnostics.Stopwatch.GetElapsedTime(validated).TotalMilliseconds);
             if (!parsed.IsArray)
             {
                 var item = View(summary.Items[0]);
