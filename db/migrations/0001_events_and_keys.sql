@@ -14,8 +14,9 @@ create table api_key (
 
 create table event (
     id             bigint generated always as identity primary key,
-    source         text             not null,
-    event_id       text             not null,
+    -- byte order ("C") for opaque identifiers: cheaper comparisons in the unique index than a locale's rules
+    source         text collate "C" not null,
+    event_id       text collate "C" not null,
     origin_time    timestamptz      not null,
     latitude       double precision not null,
     longitude      double precision not null,
