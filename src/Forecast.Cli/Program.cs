@@ -8,4 +8,5 @@ root.Subcommands.Add(DatabaseCommands.Migrate());
 root.Subcommands.Add(DatabaseCommands.Keys());
 root.Subcommands.Add(DemoCommand.Create());
 root.Subcommands.Add(BenchCommand.Create());
+root.Subcommands.Add(BenchRefitCommand.Create());
 return await root.Parse(args).InvokeAsync();
