@@ -61,63 +61,153 @@ public static class ForecastTableBuilder
         foreach (var m in thresholds)
             if (!double.IsFinite(m)) throw new ArgumentException($"Magnitude thresholds must be finite, got {m}.", nameof(thresholds));
 
-        var cells = new List<ForecastCell>(windows.Count * thresholds.Count);
-        var means = new double[nodes.Count];
-        var logMeans = new double[nodes.Count];
-        var weights = new double[nodes.Count];
-        var a = new double[nodes.Count];
-        var b = new double[nodes.Count];
-        for (int i = 0; i < nodes.Count; i++) (weights[i], a[i], b[i]) = (nodes[i].Weight, nodes[i].A, nodes[i].B);
         foreach (var window in windows)
         {
             ArgumentNullException.ThrowIfNull(window);
             window.Check();
-            double[] logIntegral = LogIntegrals(nodes, window);
-            foreach (double m in thresholds)
-                cells.Add(Cell(a, b, weights, logIntegral, means, logMeans, mainshockMagnitude, m, window));
+        }
+
+        var terms = NodeTerms.From(nodes, mainshockMagnitude, thresholds);
+        var logIntegral = new double[windows.Count][];
+        var windowFactor = new double[windows.Count][];
+        for (int w = 0; w < windows.Count; w++)
+            terms.LogIntegrals(windows[w], logIntegral[w] = new double[terms.Count], windowFactor[w] = new double[terms.Count]);
+
+        // Cells are independent and each goes to its own slot (window outer, threshold inner), so computing them in
+        // parallel gives the same table as computing them in order; each worker reuses its own buffers.
+        var cells = new ForecastCell[windows.Count * thresholds.Count];
+        try
+        {
+            Parallel.For(0, cells.Length, () => new CellBuffers(terms.Count), (index, _, buffers) =>
+            {
+                int w = index / thresholds.Count, j = index % thresholds.Count;
+                cells[index] = Cell(terms, j, logIntegral[w], windowFactor[w], buffers, thresholds[j], windows[w]);
+                return buffers;
+            }, _ => { });
+        }
+        catch (AggregateException e) when (e.InnerExceptions.Count > 0)
+        {
+            System.Runtime.ExceptionServices.ExceptionDispatchInfo.Throw(e.InnerExceptions[0]);
         }
         return new ForecastTable(mainshockMagnitude, cells);
     }
 
-    /// <summary>ln of the Omori integral per node; consecutive nodes sharing (p, c) reuse the value.</summary>
-    static double[] LogIntegrals(IReadOnlyList<PosteriorNode> nodes, ForecastWindow window)
+    sealed class CellBuffers(int count)
     {
-        var result = new double[nodes.Count];
-        double lastP = double.NaN, lastGamma = double.NaN, last = 0;
-        for (int i = 0; i < nodes.Count; i++)
-        {
-            var node = nodes[i];
-            if (node.P != lastP || node.Log10C != lastGamma)
-            {
-                last = Math.Log(OmoriUtsu.IntegralUnchecked(Math.Pow(10, node.Log10C), node.P, window.T1Days, window.T2Days));
-                lastP = node.P;
-                lastGamma = node.Log10C;
-            }
-            result[i] = last;
-        }
-        return result;
+        public readonly double[] Means = new double[count];
+        public readonly double[] LogMeans = new double[count];
+        public readonly PoissonMixture.Scratch Mixture = new();
     }
 
-    static ForecastCell Cell(double[] a, double[] b, double[] weights, double[] logIntegral, double[] means,
-        double[] logMeans, double mainshockMagnitude, double minMagnitude, ForecastWindow window)
+    /// <summary>
+    /// The nodes with positive weight as arrays, with what every cell reuses: <c>10^(b dM_j)</c> per threshold j,
+    /// <c>dM_j = Mm - M_j</c>, so that a cell needs no exponential for N (see <see cref="Cell"/>).
+    /// </summary>
+    sealed class NodeTerms
     {
-        double expected = 0, probability = 0, totalWeight = 0;
-        double deltaM = mainshockMagnitude - minMagnitude;
-        for (int i = 0; i < a.Length; i++)
+        public required int Count { get; init; }
+        public required double[] A { get; init; }
+        public required double[] B { get; init; }
+        public required double[] P { get; init; }
+        public required double[] Log10C { get; init; }
+        public required double[] Weight { get; init; }
+        public required double TotalWeight { get; init; }
+        public required double[] DeltaM { get; init; }
+        public required double[][] ThresholdFactor { get; init; }
+
+        public static NodeTerms From(IReadOnlyList<PosteriorNode> nodes, double mainshockMagnitude, IReadOnlyList<double> thresholds)
+        {
+            int count = 0;
+            double total = 0;
+            foreach (var node in nodes)
+            {
+                double w = node.Weight;
+                if (!(w >= 0) || double.IsInfinity(w)) throw new ArgumentException($"Weights must be finite and >= 0, got {w}.", nameof(nodes));
+                if (w > 0) count++;
+                total += w;
+            }
+            if (!(total > 0)) throw new ArgumentException("The weights must have a positive sum.", nameof(nodes));
+            // Zero weights contribute nothing to any sum or to the mixture: drop them once here.
+            var (a, b, p, gamma, weight) = (new double[count], new double[count], new double[count], new double[count], new double[count]);
+            int k = 0;
+            foreach (var node in nodes)
+            {
+                if (node.Weight == 0) continue;
+                (a[k], b[k], p[k], gamma[k], weight[k]) = (node.A, node.B, node.P, node.Log10C, node.Weight);
+                k++;
+            }
+            var deltaM = new double[thresholds.Count];
+            var factor = new double[thresholds.Count][];
+            for (int j = 0; j < thresholds.Count; j++)
+            {
+                deltaM[j] = mainshockMagnitude - thresholds[j];
+                var f = factor[j] = new double[count];
+                for (int i = 0; i < count; i++) f[i] = Math.Exp(Ln10 * b[i] * deltaM[j]);
+            }
+            return new NodeTerms
+            {
+                Count = count, A = a, B = b, P = p, Log10C = gamma, Weight = weight, TotalWeight = total,
+                DeltaM = deltaM, ThresholdFactor = factor,
+            };
+        }
+
+        /// <summary>ln of the Omori integral per node and <c>10^a</c> times the integral; consecutive nodes sharing
+        /// (p, c) reuse the integral (the grid runs b and K innermost, so runs are long).</summary>
+        public void LogIntegrals(ForecastWindow window, double[] logIntegral, double[] windowFactor)
+        {
+            double lastP = double.NaN, lastGamma = double.NaN, last = 0;
+            for (int i = 0; i < Count; i++)
+            {
+                if (P[i] != lastP || Log10C[i] != lastGamma)
+                {
+                    last = Math.Log(OmoriUtsu.IntegralUnchecked(Math.Pow(10, Log10C[i]), P[i], window.T1Days, window.T2Days));
+                    lastP = P[i];
+                    lastGamma = Log10C[i];
+                }
+                logIntegral[i] = last;
+                windowFactor[i] = Math.Exp(Ln10 * A[i] + last);
+            }
+        }
+    }
+
+    /// <remarks>
+    /// <c>ln N = ln10 (a + b dM) + ln A(c, p)</c> as written, for the mixture's ln-bins; N itself as the product
+    /// <c>(10^a A(c, p)) 10^(b dM)</c> of a per-window and a per-threshold factor, each one exponential per node,
+    /// instead of one exponential per node and cell (the product differs from <c>exp(ln N)</c> by an ulp or two;
+    /// <c>exp(ln N)</c> is used wherever the product is not a positive finite number).
+    /// </remarks>
+    static ForecastCell Cell(NodeTerms terms, int threshold, double[] logIntegral, double[] windowFactor,
+        CellBuffers buffers, double minMagnitude, ForecastWindow window)
+    {
+        double[] means = buffers.Means, logMeans = buffers.LogMeans;
+        double expected = 0, probability = 0;
+        double lo = double.PositiveInfinity, hi = double.NegativeInfinity;
+        double deltaM = terms.DeltaM[threshold];
+        double[] a = terms.A, b = terms.B, weights = terms.Weight, thresholdFactor = terms.ThresholdFactor[threshold];
+        int count = terms.Count;
+        for (int i = 0; i < count; i++)
         {
             double logN = Ln10 * (a[i] + b[i] * deltaM) + logIntegral[i];
-            double n = Math.Exp(logN);
+            double n = windowFactor[i] * thresholdFactor[i];
+            if (!(n > 0 && n < double.PositiveInfinity)) n = Math.Exp(logN);
             means[i] = n;
             logMeans[i] = logN;
+            lo = Math.Min(lo, logN);
+            hi = Math.Max(hi, logN);
             expected += weights[i] * n;
-            totalWeight += weights[i];
             // exp(-40) is below half an ulp of 1, so 1 - exp(-N) is exactly 1 there.
             probability += weights[i] * (n > 40 ? 1 : -Precise.Expm1(-n));
         }
-        var mixture = new PoissonMixture(means, logMeans, weights);
+        if (!double.IsFinite(expected))
+        {
+            foreach (double n in means.AsSpan(0, count))
+                if (!double.IsFinite(n)) throw new ArgumentException($"Poisson means must be finite and >= 0, got {n}.", nameof(terms));
+        }
+        var mixture = PoissonMixture.FromChecked(means.AsSpan(0, count), logMeans.AsSpan(0, count), weights, lo, hi,
+            terms.TotalWeight, buffers.Mixture);
         // Normalised weights sum to 1 only to a few ulp: divide by their sum so a probability never exceeds 1.
-        expected /= totalWeight;
-        probability = Math.Clamp(probability / totalWeight, 0, 1);
+        expected /= terms.TotalWeight;
+        probability = Math.Clamp(probability / terms.TotalWeight, 0, 1);
         return new ForecastCell(window, minMagnitude, expected, probability,
             mixture.Quantile(0.5), mixture.Quantile(0.025), mixture.Quantile(0.975));
     }

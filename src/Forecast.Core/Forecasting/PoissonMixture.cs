@@ -24,6 +24,7 @@ public sealed class PoissonMixture
     readonly double[] binMeans;
     readonly double[] binWeights;
     readonly double[] binSds;
+    readonly int firstNormal;        // bins ascend in mean: those from here on are above ExactLimit
     readonly double[] exactCdf;      // weighted CDF of the exact components, k = 0 .. exactCdf.Length - 1
     readonly long upperK;
 
@@ -38,10 +39,38 @@ public sealed class PoissonMixture
     {
         if (means.Length != weights.Length) throw new ArgumentException($"{means.Length} means but {weights.Length} weights.", nameof(weights));
         if (means.Length == 0) throw new ArgumentException("A mixture needs at least one component.", nameof(means));
-        (binMeans, binWeights) = Merge(means, logMeans, weights);
-        binSds = binMeans.Select(Math.Sqrt).ToArray();
+        var (lo, hi, total) = Check(means, logMeans, weights);
+        (binMeans, binWeights) = Merge(means, logMeans, weights, lo, hi, total, new Scratch());
+        (binSds, firstNormal) = Normal(binMeans);
         exactCdf = ExactComponentsCdf(binMeans, binWeights);
         upperK = UpperK(binMeans);
+    }
+
+    PoissonMixture(double[] binMeans, double[] binWeights)
+    {
+        (this.binMeans, this.binWeights) = (binMeans, binWeights);
+        (binSds, firstNormal) = Normal(binMeans);
+        exactCdf = ExactComponentsCdf(binMeans, binWeights);
+        upperK = UpperK(binMeans);
+    }
+
+    /// <summary>Bin accumulators reused from one mixture to the next by a caller that builds many.</summary>
+    internal sealed class Scratch
+    {
+        public readonly double[] Weight = new double[Bins];
+        public readonly double[] WeightedMean = new double[Bins];
+    }
+
+    /// <summary>
+    /// For a caller that has already checked the components: every mean finite and &gt;= 0, every weight positive
+    /// and finite, <paramref name="lnLow"/> and <paramref name="lnHigh"/> the extremes of <paramref name="logMeans"/>
+    /// and <paramref name="totalWeight"/> the sum of the weights. The same mixture as the constructor, one pass fewer.
+    /// </summary>
+    internal static PoissonMixture FromChecked(ReadOnlySpan<double> means, ReadOnlySpan<double> logMeans,
+        ReadOnlySpan<double> weights, double lnLow, double lnHigh, double totalWeight, Scratch scratch)
+    {
+        var (m, w) = Merge(means, logMeans, weights, lnLow, lnHigh, totalWeight, scratch);
+        return new PoissonMixture(m, w);
     }
 
     /// <summary>Mixture mean <c>sum w_j N_j</c>.</summary>
@@ -62,7 +91,7 @@ public sealed class PoissonMixture
         double total = exactCdf.Length == 0 ? 0 : exactCdf[(int)Math.Min(k, exactCdf.Length - 1)];
         // Bins ascend in mean, so z = (k + 0.5 - N) / sqrt(N) descends: whole weight while z > 9, nothing once z < -9
         // (the normal tail beyond 9 sd is below 1e-18); only the bins in between need erfc.
-        for (int i = 0; i < binMeans.Length; i++)
+        for (int i = firstNormal; i < binMeans.Length; i++)
         {
             if (binMeans[i] <= ExactLimit) continue;
             double z = (k + 0.5 - binMeans[i]) / binSds[i];
@@ -95,7 +124,7 @@ public sealed class PoissonMixture
         return logs;
     }
 
-    static (double[] Means, double[] Weights) Merge(ReadOnlySpan<double> means, ReadOnlySpan<double> logMeans, ReadOnlySpan<double> weights)
+    static (double Low, double High, double Total) Check(ReadOnlySpan<double> means, ReadOnlySpan<double> logMeans, ReadOnlySpan<double> weights)
     {
         double lo = double.PositiveInfinity, hi = double.NegativeInfinity, total = 0;
         for (int i = 0; i < means.Length; i++)
@@ -109,18 +138,28 @@ public sealed class PoissonMixture
             total += weights[i];
         }
         if (!(total > 0)) throw new ArgumentException("The weights must have a positive sum.", nameof(weights));
+        return (lo, hi, total);
+    }
+
+    /// <summary>Merges the components into ln-bins; bins without weight are left out, so means ascend.</summary>
+    static (double[] Means, double[] Weights) Merge(ReadOnlySpan<double> means, ReadOnlySpan<double> logMeans,
+        ReadOnlySpan<double> weights, double lo, double hi, double total, Scratch scratch)
+    {
         int bins = hi - lo < 1e-12 ? 1 : Bins;
-        double width = (hi - lo) / bins;
-        var w = new double[bins];
-        var wn = new double[bins];
+        double perLn = bins / (hi - lo);   // bins per unit of ln N: one multiply per component instead of a division
+        var w = scratch.Weight.AsSpan(0, bins);
+        var wn = scratch.WeightedMean.AsSpan(0, bins);
+        w.Clear();
+        wn.Clear();
         for (int i = 0; i < means.Length; i++)
         {
             if (weights[i] == 0) continue;
-            int bin = bins == 1 ? 0 : Math.Min(bins - 1, (int)((logMeans[i] - lo) / width));
+            int bin = bins == 1 ? 0 : Math.Min(bins - 1, (int)((logMeans[i] - lo) * perLn));
             w[bin] += weights[i];
             wn[bin] += weights[i] * means[i];
         }
-        int used = w.Count(x => x > 0);
+        int used = 0;
+        foreach (double x in w) if (x > 0) used++;
         var outMeans = new double[used];
         var outWeights = new double[used];
         for (int b = 0, j = 0; b < bins; b++)
@@ -130,6 +169,18 @@ public sealed class PoissonMixture
             outWeights[j++] = w[b] / total;
         }
         return (outMeans, outWeights);
+    }
+
+    static (double[] Sds, int FirstNormal) Normal(double[] means)
+    {
+        var sds = new double[means.Length];
+        int first = means.Length;
+        for (int i = means.Length - 1; i >= 0; i--)
+        {
+            sds[i] = Math.Sqrt(means[i]);
+            if (means[i] > ExactLimit) first = i;
+        }
+        return (sds, first);
     }
 
     static (long Low, long High) Window(double mean)

@@ -11,15 +11,16 @@ namespace Forecast.Core.Posterior;
 /// c-p-K correlation of Omori fits instead of wasting nodes on an axis-aligned box:
 /// p given c from the profile over kappa (Laplace-corrected), kappa given (c, p) by Newton, b given kappa by
 /// Newton on its exact conditional. A node's weight is the posterior density times the product of the trapezoid
-/// weights of its levels. Loops run in one fixed order and sums are sequential, so the output is bit-for-bit
-/// reproducible.
+/// weights of its levels. Each c slice fills its own fixed range of the node arrays (slices run in parallel) and
+/// every sum is sequential in node order, so the output is bit-for-bit reproducible.
 /// </remarks>
 internal sealed class PosteriorGrid
 {
     const double PMin = 0.01, PMax = 6;   // p outside this range is not physical for these windows (project choice)
 
-    readonly List<double> kappas = [], bs = [], ps = [], gammas = [], logWeights = [];
-    readonly List<int> gammaIndex = [];
+    // One slot per node, sized up front (gamma x p x kappa x b nodes): no list growth, no copies.
+    double[] kappas = [], bs = [], ps = [], gammas = [], logWeights = [];
+    int[] gammaIndex = [];
 
     public int GammaNodes { get; private init; }
     public double GammaLow { get; private init; }
@@ -29,16 +30,34 @@ internal sealed class PosteriorGrid
     public static PosteriorGrid Build(PosteriorModel model, double gammaLow, double gammaStep, int gammaCount, PosteriorOptions options)
     {
         var grid = new PosteriorGrid { GammaNodes = gammaCount, GammaLow = gammaLow, GammaStep = gammaStep };
-        for (int i = 0; i < gammaCount; i++)
+        int sliceSize = options.PNodes * options.KNodes * options.BNodes;
+        grid.Allocate(gammaCount * sliceSize);
+        // The c slices are independent and each fills its own fixed range of the node arrays, so running them in
+        // parallel gives the same arrays, in the same order, as running them one after the other.
+        void Slice(int i)
         {
             double gamma = gammaLow + i * gammaStep;
             double logTrapezoid = Math.Log(gammaStep) + EndWeight(i, gammaCount);
-            grid.AddGammaSlice(model, options, i, gamma, logTrapezoid + model.LogPriorGamma(gamma));
+            grid.AddGammaSlice(model, options, i, i * sliceSize, gamma, logTrapezoid + model.LogPriorGamma(gamma));
+        }
+        try
+        {
+            Parallel.For(0, gammaCount, Slice);
+        }
+        catch (AggregateException e) when (e.InnerExceptions.Count > 0)
+        {
+            System.Runtime.ExceptionServices.ExceptionDispatchInfo.Throw(e.InnerExceptions[0]);
         }
         return grid;
     }
 
-    void AddGammaSlice(PosteriorModel model, PosteriorOptions options, int index, double gamma, double logBase)
+    void Allocate(int nodes)
+    {
+        (kappas, bs, ps, gammas, logWeights) = (new double[nodes], new double[nodes], new double[nodes], new double[nodes], new double[nodes]);
+        gammaIndex = new int[nodes];
+    }
+
+    void AddGammaSlice(PosteriorModel model, PosteriorOptions options, int index, int at, double gamma, double logBase)
     {
         double c = Math.Pow(10, gamma);
         double sumLog = model.SumLog(c);
@@ -48,45 +67,48 @@ internal sealed class PosteriorGrid
         {
             double p = pLow + j * pStep;
             double logP = logBase + Math.Log(pStep) + EndWeight(j, options.PNodes) + model.LogPriorP(p);
-            AddPSlice(model, options, index, gamma, c, p, sumLog, logP);
+            AddPSlice(model, options, index, ref at, gamma, c, p, sumLog, logP);
         }
     }
 
-    void AddPSlice(PosteriorModel model, PosteriorOptions options, int index, double gamma, double c, double p,
+    void AddPSlice(PosteriorModel model, PosteriorOptions options, int index, ref int at, double gamma, double c, double p,
         double sumLog, double logBase)
     {
         double integral = model.Integral(c, p);
         var (kappaMode, curvature, _) = model.KappaMode(integral);
         double half = options.HalfWidthSd / Math.Sqrt(curvature);
         double kStep = 2 * half / (options.KNodes - 1);
+        double logStep = Math.Log(kStep);
         for (int k = 0; k < options.KNodes; k++)
         {
             double kappa = kappaMode - half + k * kStep;
-            double logK = logBase + Math.Log(kStep) + EndWeight(k, options.KNodes)
+            double logK = logBase + logStep + EndWeight(k, options.KNodes)
                 + model.TimeLogLikelihood(kappa, p, sumLog, integral);
-            AddBSlice(model, options, index, gamma, p, kappa, logK);
+            AddBSlice(model, options, index, ref at, gamma, p, kappa, logK);
         }
     }
 
-    void AddBSlice(PosteriorModel model, PosteriorOptions options, int index, double gamma, double p, double kappa,
+    void AddBSlice(PosteriorModel model, PosteriorOptions options, int index, ref int at, double gamma, double p, double kappa,
         double logBase)
     {
         var (bMode, curvature) = model.BMode(kappa);
         double half = options.BHalfWidthSd / Math.Sqrt(curvature);
         double bLow = Math.Max(1e-6, bMode - half), bHigh = bMode + half;
         double bStep = (bHigh - bLow) / (options.BNodes - 1);
-        for (int l = 0; l < options.BNodes; l++)
+        // Terms that do not change along b are evaluated once per slice: the same values, so the same sums, bit for bit.
+        double logStep = Math.Log(bStep), endWeight = EndWeight(0, options.BNodes);
+        for (int l = 0; l < options.BNodes; l++, at++)
         {
             double b = bLow + l * bStep;
             double a = kappa - b * model.DeltaM;
-            double logW = logBase + Math.Log(bStep) + EndWeight(l, options.BNodes)
+            double logW = logBase + logStep + (l == 0 || l == options.BNodes - 1 ? endWeight : 0)
                 + model.MagnitudeLogLikelihood(b) + model.LogPriorA(a) + model.LogPriorB(b);
-            kappas.Add(kappa);
-            bs.Add(b);
-            ps.Add(p);
-            gammas.Add(gamma);
-            gammaIndex.Add(index);
-            logWeights.Add(logW);
+            kappas[at] = kappa;
+            bs[at] = b;
+            ps[at] = p;
+            gammas[at] = gamma;
+            gammaIndex[at] = index;
+            logWeights[at] = logW;
         }
     }
 
@@ -116,7 +138,9 @@ internal sealed class PosteriorGrid
         return second < 0 ? 1 / Math.Sqrt(-second) : double.NaN;
     }
 
-    static double EndWeight(int i, int count) => i == 0 || i == count - 1 ? -Math.Log(2) : 0;
+    static readonly double LogHalf = -Math.Log(2);
+
+    static double EndWeight(int i, int count) => i == 0 || i == count - 1 ? LogHalf : 0;
 
     /// <summary>Exponentiates, prunes and normalises the weights (sequential sums: bit-for-bit reproducible).</summary>
     public List<PosteriorNode> Normalise(double deltaM, double pruneBelow, out double[] gammaMarginal)
@@ -125,15 +149,17 @@ internal sealed class PosteriorGrid
         foreach (double lw in logWeights) if (lw > max) max = lw;
         double threshold = Math.Log(pruneBelow);
         double total = 0;
-        var raw = new double[logWeights.Count];
+        int kept = 0;
+        var raw = new double[logWeights.Length];
         for (int i = 0; i < raw.Length; i++)
         {
             double rel = logWeights[i] - max;
             raw[i] = rel < threshold ? 0 : Math.Exp(rel);
             total += raw[i];
+            if (raw[i] != 0) kept++;
         }
         gammaMarginal = new double[GammaNodes];
-        var nodes = new List<PosteriorNode>();
+        var nodes = new List<PosteriorNode>(kept);
         for (int i = 0; i < raw.Length; i++)
         {
             if (raw[i] == 0) continue;
