@@ -1,7 +1,10 @@
 using Forecast.Api.Auth;
 using Forecast.Api.Events;
+using Forecast.Api.Forecasts;
 using Forecast.Api.Infrastructure;
 using Forecast.Api.Keys;
+using Forecast.Api.Public;
+using Forecast.Api.Sequences;
 using Forecast.Storage;
 using Forecast.Storage.Events;
 using Forecast.Storage.Keys;
@@ -26,6 +29,8 @@ builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddNpgsqlDataSource(connectionString);
 builder.Services.AddSingleton<EventStore>();
 builder.Services.AddSingleton<ApiKeyStore>();
+builder.Services.AddSequencesAndForecasts();
+builder.Services.AddPublicApi(builder.Configuration);
 builder.Services.AddMemoryCache();
 builder.Services.AddSingleton<ApiKeyCache>();
 builder.Services.AddAuthentication(Policies.Scheme)
@@ -45,12 +50,17 @@ app.UseStatusCodePages();
 app.UseRequestId();
 app.UseSwagger();
 app.UseSwaggerUI(o => o.RoutePrefix = "swagger");
+app.UseCors();
+app.UseRateLimiter();
 app.UseAuthentication();
 app.UseAuthorization();
 
 app.MapOperations();
 app.MapEvents();
 app.MapKeys();
+app.MapSequences();
+app.MapForecasts();
+app.MapPublic();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();

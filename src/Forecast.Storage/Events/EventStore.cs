@@ -40,7 +40,7 @@ public sealed class EventStore(NpgsqlDataSource db)
         await using var tx = await conn.BeginTransactionAsync(ct);
         await conn.ExecuteAsync(new CommandDefinition("""
             create temp table event_stage (
-                ord integer, source text, event_id text, origin_time timestamptz, latitude double precision,
+                ord integer, source text collate "C", event_id text collate "C", origin_time timestamptz, latitude double precision,
                 longitude double precision, depth_km double precision, magnitude double precision,
                 magnitude_type text, status text
             ) on commit drop
@@ -50,20 +50,22 @@ public sealed class EventStore(NpgsqlDataSource db)
             "copy event_stage (ord, source, event_id, origin_time, latitude, longitude, depth_km, magnitude, " +
             "magnitude_type, status) from stdin (format binary)", ct))
         {
+            // Synchronous writes: the importer buffers rows and only flushes when its buffer fills, so a million
+            // awaited calls would cost more than the few blocking flushes they save.
             for (var i = 0; i < events.Count; i++)
             {
                 var e = events[i];
-                await copy.StartRowAsync(ct);
-                await copy.WriteAsync(i, NpgsqlDbType.Integer, ct);
-                await copy.WriteAsync(e.Source, NpgsqlDbType.Text, ct);
-                await copy.WriteAsync(e.EventId, NpgsqlDbType.Text, ct);
-                await copy.WriteAsync(e.OriginTime, NpgsqlDbType.TimestampTz, ct);
-                await copy.WriteAsync(e.Latitude, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(e.Longitude, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(e.DepthKm, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(e.Magnitude, NpgsqlDbType.Double, ct);
-                await copy.WriteAsync(e.MagnitudeType, NpgsqlDbType.Text, ct);
-                await copy.WriteAsync(e.Status, NpgsqlDbType.Text, ct);
+                copy.StartRow();
+                copy.Write(i, NpgsqlDbType.Integer);
+                copy.Write(e.Source, NpgsqlDbType.Text);
+                copy.Write(e.EventId, NpgsqlDbType.Text);
+                copy.Write(e.OriginTime, NpgsqlDbType.TimestampTz);
+                copy.Write(e.Latitude, NpgsqlDbType.Double);
+                copy.Write(e.Longitude, NpgsqlDbType.Double);
+                copy.Write(e.DepthKm, NpgsqlDbType.Double);
+                copy.Write(e.Magnitude, NpgsqlDbType.Double);
+                copy.Write(e.MagnitudeType, NpgsqlDbType.Text);
+                copy.Write(e.Status, NpgsqlDbType.Text);
             }
             await copy.CompleteAsync(ct);
         }
@@ -113,8 +115,20 @@ public sealed class EventStore(NpgsqlDataSource db)
             left join written w on w.source = s.source and w.event_id = s.event_id
             left join event e on e.source = s.source and e.event_id = s.event_id
             """;
-        var rows = await conn.QueryAsync<(int Ord, int Version, bool Written)>(
-            new CommandDefinition(upsert, new { keyId }, tx, cancellationToken: ct));
+        var rows = (await conn.QueryAsync<(int Ord, int Version, bool Written)>(
+            new CommandDefinition(upsert, new { keyId }, tx, cancellationToken: ct))).AsList();
+
+        // In the same transaction: queue refits of the active sequences the written events touch, and big events
+        // as candidate mainshocks (issue 4), so nothing acknowledged is ever missed by the forecasts.
+        var writtenOrds = rows.Where(r => r.Written).Select(r => r.Ord).ToArray();
+        if (writtenOrds.Length > 0)
+        {
+            await conn.ExecuteAsync(new CommandDefinition("""
+                select queue_sequence_work(array(
+                    select e.id from event_stage s join event e on e.source = s.source and e.event_id = s.event_id
+                    where s.ord = any(@writtenOrds)))
+                """, new { writtenOrds }, tx, cancellationToken: ct));
+        }
         await tx.CommitAsync(ct);
 
         var items = new EventUpsertItem[events.Count];

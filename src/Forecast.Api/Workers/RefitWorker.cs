@@ -1,0 +1,102 @@
+using System.ComponentModel.DataAnnotations;
+using Forecast.Storage.Forecasts;
+using Forecast.Storage.Sequences;
+using Microsoft.Extensions.Options;
+
+namespace Forecast.Api.Workers;
+
+/// <summary>Section <c>RefitWorker</c>: the background refit loop of this instance.</summary>
+public sealed class RefitWorkerOptions
+{
+    public const string Section = "RefitWorker";
+
+    /// <summary>Run the worker in this instance (any number of instances may).</summary>
+    public bool Enabled { get; init; } = true;
+
+    /// <summary>Pause between polls of the queue when it is empty.</summary>
+    [Range(typeof(TimeSpan), "00:00:00.010", "01:00:00")] public TimeSpan PollInterval { get; init; } = TimeSpan.FromSeconds(2);
+
+    /// <summary>How long a claimed refit is held before another worker may take it over (a fit must finish within it).</summary>
+    [Range(typeof(TimeSpan), "00:00:05", "01:00:00")] public TimeSpan Lease { get; init; } = TimeSpan.FromMinutes(5);
+
+    /// <summary>How often the schedule (RefitSchedule: hourly to day 3, 6-hourly to day 30, then daily) is checked.</summary>
+    [Range(typeof(TimeSpan), "00:00:01", "01:00:00")] public TimeSpan ScheduleCheck { get; init; } = TimeSpan.FromMinutes(1);
+}
+
+/// <summary>Keeps forecasts current: opens sequences for big new events, runs queued refits, queues scheduled ones.</summary>
+public sealed class RefitWorker(
+    RefitProcessor processor, RefitQueue queue, SequenceStore sequences, IOptions<RefitWorkerOptions> options,
+    TimeProvider clock, ILogger<RefitWorker> log) : BackgroundService
+{
+    readonly string _name = $"{Environment.MachineName}:{Environment.ProcessId}:{Guid.NewGuid():N}";
+
+    protected override async Task ExecuteAsync(CancellationToken stoppingToken)
+    {
+        var o = options.Value;
+        await RetryUntilDone(() => sequences.ApplySettingsAsync(stoppingToken), stoppingToken);
+        if (!o.Enabled)
+        {
+            log.LogInformation("Refit worker disabled (RefitWorker:Enabled is false)");
+            return;
+        }
+        var nextSchedule = DateTime.MinValue;
+        while (!stoppingToken.IsCancellationRequested)
+        {
+            try
+            {
+                var now = clock.GetUtcNow().UtcDateTime;
+                if (now >= nextSchedule)
+                {
+                    var queued = await queue.QueueScheduledAsync(now, stoppingToken);
+                    if (queued > 0) log.LogInformation("Queued {Count} scheduled refits", queued);
+                    nextSchedule = now + o.ScheduleCheck;
+                }
+                RefitRound round;
+                do
+                {
+                    round = await processor.RunOnceAsync(_name, o.Lease, stoppingToken);
+                    foreach (var id in round.Opened) log.LogInformation("Opened sequence {SequenceId} automatically", id);
+                    if (round.Error is not null)
+                        log.LogWarning("Refit of sequence {SequenceId} failed: {Error}", round.SequenceId, round.Error);
+                    else if (round.Forecast is { } f)
+                        log.LogInformation("Sequence {SequenceId}: forecast {Number} ({Reason})", f.SequenceId, f.Number, f.Reason);
+                } while (round.DidWork && !stoppingToken.IsCancellationRequested);
+            }
+            catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+            {
+                return;
+            }
+            catch (Exception e) when (!stoppingToken.IsCancellationRequested)
+            {
+                // Typically the database is away or restarting. The worker must outlive it (an exception escaping a
+                // BackgroundService stops the host); the queue keeps the work for the next round.
+                log.LogWarning(e, "Refit worker round failed; retrying after the poll interval");
+            }
+            try
+            {
+                await Task.Delay(o.PollInterval, clock, stoppingToken);
+            }
+            catch (OperationCanceledException)
+            {
+                return;
+            }
+        }
+    }
+
+    async Task RetryUntilDone(Func<Task> action, CancellationToken ct)
+    {
+        while (!ct.IsCancellationRequested)
+        {
+            try
+            {
+                await action();
+                return;
+            }
+            catch (Npgsql.NpgsqlException e)
+            {
+                log.LogWarning(e, "Could not write the sequence settings; retrying");
+                await Task.Delay(TimeSpan.FromSeconds(2), clock, ct);
+            }
+        }
+    }
+}

@@ -1,0 +1,124 @@
+using Dapper;
+using Npgsql;
+
+namespace Forecast.Storage.Forecasts;
+
+/// <summary>The numbered, immutable forecasts of each sequence and their states.</summary>
+/// <remarks>States: a forecast is a draft when computed; releasing one makes every earlier released one of the
+/// sequence superseded; any forecast not yet withdrawn can be withdrawn. The database refuses any other change
+/// (trigger <c>forecast_immutable</c>).</remarks>
+public sealed class ForecastStore(NpgsqlDataSource db)
+{
+    /// <summary>A forecast to store; the number is given by the store.</summary>
+    public sealed record NewForecast(
+        long SequenceId, string Reason, bool Exercise, DateTime IssueTime, string EngineVersion, string ParameterSet,
+        long MainshockPk, double MainshockMagnitude, double Mc, double FitStartDays, int EventCount,
+        DateTime? LastEventTime, string CatalogHash, string Result, string Options, string AdvisoryText, long? CreatedBy);
+
+    /// <summary>Stores the forecast under the sequence's next number (taken under the sequence's row lock).</summary>
+    public async Task<ForecastRecord> InsertAsync(NewForecast f, CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        var number = await conn.ExecuteScalarAsync<int>(new CommandDefinition("""
+            update sequence set next_forecast_number = next_forecast_number + 1, last_error = null, last_error_at = null
+            where id = @SequenceId returning next_forecast_number - 1
+            """, f, tx, cancellationToken: ct));
+        var row = await conn.QuerySingleAsync<ForecastRecord>(new CommandDefinition($"""
+            insert into forecast (sequence_id, number, reason, exercise, issue_time, engine_version, parameter_set,
+                                  mainshock_pk, mainshock_magnitude, mc, fit_start_days, event_count, last_event_time,
+                                  catalog_hash, result, options, advisory_text, created_by)
+            values (@SequenceId, @number, @Reason, @Exercise, @IssueTime, @EngineVersion, @ParameterSet, @MainshockPk,
+                    @MainshockMagnitude, @Mc, @FitStartDays, @EventCount, @LastEventTime, @CatalogHash,
+                    @Result::jsonb, @Options::jsonb, @AdvisoryText, @CreatedBy)
+            returning {Columns}
+            """, new
+        {
+            f.SequenceId, number, f.Reason, f.Exercise, f.IssueTime, f.EngineVersion, f.ParameterSet, f.MainshockPk,
+            f.MainshockMagnitude, f.Mc, f.FitStartDays, f.EventCount, f.LastEventTime, f.CatalogHash, f.Result,
+            f.Options, f.AdvisoryText, f.CreatedBy,
+        }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
+        return row;
+    }
+
+    public async Task<ForecastRecord?> FindAsync(long sequenceId, int number, CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        return await conn.QuerySingleOrDefaultAsync<ForecastRecord>(new CommandDefinition(
+            $"select {Columns} from forecast where sequence_id = @sequenceId and number = @number",
+            new { sequenceId, number }, cancellationToken: ct));
+    }
+
+    /// <summary>The highest-numbered forecast, in any state, or only released ones.</summary>
+    public async Task<ForecastRecord?> LatestAsync(long sequenceId, bool releasedOnly, CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        return await conn.QuerySingleOrDefaultAsync<ForecastRecord>(new CommandDefinition($"""
+            select {Columns} from forecast
+            where sequence_id = @sequenceId and (not @releasedOnly or state = 'released')
+            order by number desc limit 1
+            """, new { sequenceId, releasedOnly }, cancellationToken: ct));
+    }
+
+    /// <summary>Forecasts newest first, optionally only those in <paramref name="states"/>.</summary>
+    public async Task<IReadOnlyList<ForecastRecord>> ListAsync(long sequenceId, string[]? states, int limit, CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        var rows = await conn.QueryAsync<ForecastRecord>(new CommandDefinition($"""
+            select {Columns} from forecast
+            where sequence_id = @sequenceId and (@states::text[] is null or state = any(@states))
+            order by number desc limit @limit
+            """, new { sequenceId, states, limit }, cancellationToken: ct));
+        return rows.AsList();
+    }
+
+    /// <summary>Releases a draft (optionally with the analyst's edited advisory); earlier released forecasts of
+    /// the sequence become superseded.</summary>
+    public async Task<TransitionOutcome> ReleaseAsync(long sequenceId, int number, string? editedAdvisory, long? keyId,
+        CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        await using var tx = await conn.BeginTransactionAsync(ct);
+        // The sequence row lock orders concurrent releases of one sequence.
+        await conn.ExecuteAsync(new CommandDefinition("select 1 from sequence where id = @sequenceId for update",
+            new { sequenceId }, tx, cancellationToken: ct));
+        var state = await conn.QuerySingleOrDefaultAsync<string>(new CommandDefinition(
+            "select state from forecast where sequence_id = @sequenceId and number = @number",
+            new { sequenceId, number }, tx, cancellationToken: ct));
+        if (state is null) return TransitionOutcome.NotFound;
+        if (state != "draft") return TransitionOutcome.WrongState;
+        var newer = await conn.ExecuteScalarAsync<bool>(new CommandDefinition("""
+            select exists (select 1 from forecast where sequence_id = @sequenceId and state = 'released' and number > @number)
+            """, new { sequenceId, number }, tx, cancellationToken: ct));
+        if (newer) return TransitionOutcome.NewerReleased;
+        await conn.ExecuteAsync(new CommandDefinition("""
+            update forecast set state = 'superseded' where sequence_id = @sequenceId and state = 'released';
+            update forecast set state = 'released', released_at = now(), released_by = @keyId,
+                                released_advisory_text = @editedAdvisory
+            where sequence_id = @sequenceId and number = @number;
+            """, new { sequenceId, number, keyId, editedAdvisory }, tx, cancellationToken: ct));
+        await tx.CommitAsync(ct);
+        return TransitionOutcome.Done;
+    }
+
+    /// <summary>Withdraws a forecast in any state but withdrawn.</summary>
+    public async Task<TransitionOutcome> WithdrawAsync(long sequenceId, int number, string? reason, long? keyId,
+        CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        var n = await conn.ExecuteAsync(new CommandDefinition("""
+            update forecast set state = 'withdrawn', withdrawn_at = now(), withdrawn_by = @keyId, withdraw_reason = @reason
+            where sequence_id = @sequenceId and number = @number and state <> 'withdrawn'
+            """, new { sequenceId, number, reason, keyId }, cancellationToken: ct));
+        if (n == 1) return TransitionOutcome.Done;
+        return await FindAsync(sequenceId, number, ct) is null ? TransitionOutcome.NotFound : TransitionOutcome.WrongState;
+    }
+
+    const string Columns = """
+        id, sequence_id, number, state, reason, exercise, issue_time, created_at, engine_version, parameter_set,
+        mainshock_pk, mainshock_magnitude, mc, fit_start_days, event_count, last_event_time, catalog_hash,
+        result::text as result, options::text as options, advisory_text, created_by, released_at, released_by,
+        released_advisory_text, withdrawn_at, withdrawn_by, withdraw_reason
+        """;
+}
