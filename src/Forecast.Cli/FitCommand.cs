@@ -20,7 +20,7 @@ static class FitCommand
 
     public static Command Create()
     {
-        var file = new Argument<FileInfo>("file") { Description = "catalog CSV (header: id, time, lat, lon, depth, mag)" };
+        var file = new Argument<FileInfo>("file") { Description = "catalog file: CSV (header: id, time, lat, lon, depth, mag), QuakeML 1.2 or FDSN event text" };
         var mainshock = new Option<string?>("--mainshock") { Description = "id of the mainshock (default: the largest event)" };
         var mc = new Option<double?>("--mc") { Description = "completeness magnitude (default: estimated)" };
         var fitStart = new Option<string?>("--fit-start") { Description = "fit start: days after the mainshock, or a UTC time" };
@@ -44,8 +44,7 @@ static class FitCommand
         {
             var path = parse.GetValue(file)!;
             if (!path.Exists) throw new CliException($"No such file: {path.FullName}");
-            IReadOnlyList<CatalogEvent> events;
-            using (var reader = path.OpenText()) events = CatalogCsv.Read(reader);
+            var events = CatalogFiles.Read(path);
             if (events.Count == 0) throw new CliException("The catalog holds no events.");
 
             var main = parse.GetValue(mainshock) is { } id

@@ -9,7 +9,7 @@ namespace Forecast.Api.Tests;
 /// <summary>The real API on Kestrel (a loopback port, real HTTP) over a fresh migrated PostgreSQL database.</summary>
 /// <remarks>The database comes from <see cref="TestDatabase"/>; the connection string is handed over with
 /// UseSetting because Program.cs reads it before the host is built.</remarks>
-public sealed class ApiServer : IAsyncLifetime
+public class ApiServer : IAsyncLifetime
 {
     public const string AdminKey = "test-bootstrap-admin-key-0123456789abcdef";
 
@@ -19,6 +19,9 @@ public sealed class ApiServer : IAsyncLifetime
     public string ConnectionString => _db.ConnectionString;
     public Uri BaseAddress { get; private set; } = null!;
 
+    /// <summary>Settings a derived fixture adds or overrides (configuration keys as in appsettings.json).</summary>
+    protected virtual IReadOnlyDictionary<string, string> Settings => new Dictionary<string, string>();
+
     public async Task InitializeAsync()
     {
         await _db.InitializeAsync();
@@ -27,6 +30,7 @@ public sealed class ApiServer : IAsyncLifetime
             b.UseSetting("ConnectionStrings:Forecast", _db.ConnectionString);
             b.UseSetting("Forecast:BootstrapAdminKey", AdminKey);
             b.UseSetting("Logging:LogLevel:Default", "Warning");
+            foreach (var (k, v) in Settings) b.UseSetting(k, v);
             b.UseEnvironment("Production");
         });
         _factory.UseKestrel(k => k.Listen(System.Net.IPAddress.Loopback, 0));

@@ -159,7 +159,7 @@ public class EventIngestTests(ApiServer api) : IClassFixture<ApiServer>
     }
 
     [Theory]
-    [InlineData("text/plain", HttpStatusCode.UnsupportedMediaType)]
+    [InlineData("text/csv", HttpStatusCode.UnsupportedMediaType)]
     [InlineData("application/json", HttpStatusCode.BadRequest)]
     public async Task UnreadableBodiesAreRefusedAsProblems(string contentType, HttpStatusCode expected)
     {

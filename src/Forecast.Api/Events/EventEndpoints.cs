@@ -2,6 +2,7 @@ using System.Globalization;
 using System.Text;
 using System.Text.Json;
 using Forecast.Api.Auth;
+using Forecast.Api.Formats;
 using Forecast.Api.Infrastructure;
 using Forecast.Storage.Events;
 using Microsoft.AspNetCore.Http.HttpResults;
@@ -18,10 +19,16 @@ public static class EventEndpoints
     {
         var group = app.MapGroup("/v1/events").WithTags("Events");
         group.MapPost("/", PostEvents).WithName("PostEvents").RequireAuthorization(Policies.Feeder)
-            .Accepts<EventSubmission>("application/json")
-            .WithSummary("Submit one event or an array of events (all or nothing; idempotent; revisions kept)");
+            .Accepts<EventSubmission>("application/json", Forecast.Formats.FormatNames.QuakeMl, "application/xml",
+                "text/xml", Forecast.Formats.FormatNames.FdsnText)
+            .WithSummary("Submit one event or an array of events (all or nothing; idempotent; revisions kept)")
+            .WithDescription("JSON, QuakeML 1.2 (application/vnd.quakeml+xml, application/xml, text/xml) or FDSN " +
+                "event text (text/plain). For QuakeML and FDSN text, 'source' overrides the source of every event " +
+                "and 'status' (FDSN text only: automatic or reviewed) is the state of events not retracted.");
         group.MapGet("/", QueryEvents).WithName("QueryEvents").RequireAuthorization()
-            .WithSummary("Events in time order, filtered by time, magnitude, box or radius; paged by cursor");
+            .WithSummary("Events in time order, filtered by time, magnitude, box or radius; paged by cursor")
+            .WithDescription("JSON by default; QuakeML 1.2 for Accept: application/vnd.quakeml+xml (or " +
+                "application/xml, text/xml), FDSN event text for Accept: text/plain, with the next page in a Link header.");
         group.MapGet("/{source}/{**id}", GetEvent).WithName("GetEvent").RequireAuthorization()
             .WithSummary("One event with its revision history");
         return group;
@@ -30,13 +37,29 @@ public static class EventEndpoints
     static async Task<Results<Created<EventWriteResult>, Ok<EventWriteResult>, Ok<BatchWriteResult>,
         ValidationProblem, ProblemHttpResult>> PostEvents(
         HttpRequest request, EventStore store, IOptions<IngestOptions> options, TimeProvider clock,
-        ILoggerFactory logs, CancellationToken ct)
+        ILoggerFactory logs, CancellationToken ct, string? source = null, string? status = null)
     {
         var limits = options.Value;
         var started = System.Diagnostics.Stopwatch.GetTimestamp();
-        if (!IsJson(request.ContentType))
-            return Problems.UnsupportedMediaType(request.ContentType, "application/json");
+        var format = CatalogMediaTypes.ForUpload(request.ContentType);
+        if (format is null) return Problems.UnsupportedMediaType(request.ContentType, CatalogMediaTypes.Uploads);
         if (request.ContentLength > limits.MaxBodyBytes) return Problems.TooLarge(limits.MaxBodyBytes);
+        if (format != CatalogFormat.Json)
+        {
+            var read = await CatalogUpload.ReadAsync(request, format.Value, source, status, limits,
+                clock.GetUtcNow().UtcDateTime, ct);
+            if (read.Invalid is { } invalid) return invalid;
+            if (read.Problem is { } problem) return problem;
+            return await StoreAsync(read.Events!, isArray: true, request, store, logs, started, ct);
+        }
+        if (source is not null || status is not null)
+        {
+            return Problems.Invalid(new Dictionary<string, string[]>
+            {
+                [source is not null ? "source" : "status"] =
+                    ["applies to QuakeML and FDSN text bodies; a JSON event names its own source and status"],
+            }, "Some query parameters are not valid.");
+        }
 
         JsonDocument document;
         try
@@ -73,28 +96,37 @@ public static class EventEndpoints
                     detail += $" Only the first {EventJson.MaxReportedErrors} problems are listed.";
                 return Problems.Invalid(parsed.Errors, detail);
             }
-
-            var validated = System.Diagnostics.Stopwatch.GetTimestamp();
-            var summary = await store.UpsertAsync(parsed.Events, Policies.KeyId(request.HttpContext.User), ct);
-            logs.CreateLogger("Forecast.Ingest").LogInformation(
-                "Stored {Count} events ({Created} new, {Revised} revised): read and checked in {ReadMs:F0} ms, stored in {StoreMs:F0} ms",
-                summary.Total, summary.Created, summary.Revised,
-                System.Diagnostics.Stopwatch.GetElapsedTime(started, validated).TotalMilliseconds,
-                System.Diagnostics.Stopwatch.GetElapsedTime(validated).TotalMilliseconds);
-            if (!parsed.IsArray)
-            {
-                var item = View(summary.Items[0]);
-                return summary.Created == 1
-                    ? TypedResults.Created(EventUrl(item.Source, item.Id), item)
-                    : TypedResults.Ok(item);
-            }
-            return TypedResults.Ok(new BatchWriteResult(summary.Total, summary.Created, summary.Revised,
-                summary.Unchanged, summary.Total <= ItemsListedUpTo ? summary.Items.Select(View).ToList() : null));
+            return await StoreAsync(parsed.Events, parsed.IsArray, request, store, logs, started, ct);
         }
     }
 
+    /// <summary>Stores a checked batch, whatever format it came in, and answers as the JSON ingest always has.
+    /// </summary>
+    static async Task<Results<Created<EventWriteResult>, Ok<EventWriteResult>, Ok<BatchWriteResult>,
+        ValidationProblem, ProblemHttpResult>> StoreAsync(
+        IReadOnlyList<EventInput> events, bool isArray, HttpRequest request, EventStore store, ILoggerFactory logs,
+        long started, CancellationToken ct)
+    {
+        var validated = System.Diagnostics.Stopwatch.GetTimestamp();
+        var summary = await store.UpsertAsync(events, Policies.KeyId(request.HttpContext.User), ct);
+        logs.CreateLogger("Forecast.Ingest").LogInformation(
+            "Stored {Count} events ({Created} new, {Revised} revised): read and checked in {ReadMs:F0} ms, stored in {StoreMs:F0} ms",
+            summary.Total, summary.Created, summary.Revised,
+            System.Diagnostics.Stopwatch.GetElapsedTime(started, validated).TotalMilliseconds,
+            System.Diagnostics.Stopwatch.GetElapsedTime(validated).TotalMilliseconds);
+        if (!isArray)
+        {
+            var item = View(summary.Items[0]);
+            return summary.Created == 1
+                ? TypedResults.Created(EventUrl(item.Source, item.Id), item)
+                : TypedResults.Ok(item);
+        }
+        return TypedResults.Ok(new BatchWriteResult(summary.Total, summary.Created, summary.Revised,
+            summary.Unchanged, summary.Total <= ItemsListedUpTo ? summary.Items.Select(View).ToList() : null));
+    }
+
     // One batch naming the same event twice would make its outcome depend on row order: refuse it.
-    static void AddDuplicateErrors(IReadOnlyList<EventInput> events, Dictionary<string, string[]> errors)
+    internal static void AddDuplicateErrors(IReadOnlyList<EventInput> events, Dictionary<string, string[]> errors)
     {
         var first = new Dictionary<(string, string), int>();
         for (var i = 0; i < events.Count && errors.Count < EventJson.MaxReportedErrors; i++)
@@ -118,8 +150,8 @@ public static class EventEndpoints
     /// <param name="to">Origin time before, ISO 8601 with offset.</param>
     /// <param name="latitude">Centre of a radius search (with longitude and radiusKm).</param>
     /// <param name="cursor">The <c>next</c> value of the previous page.</param>
-    static async Task<Results<Ok<EventPage>, ValidationProblem>> QueryEvents(
-        EventStore store, CancellationToken ct,
+    static async Task<Results<Ok<EventPage>, FileContentHttpResult, ValidationProblem, ProblemHttpResult>> QueryEvents(
+        HttpContext http, EventStore store, CancellationToken ct,
         string? from = null, string? to = null, string? minMagnitude = null, string? maxMagnitude = null,
         string? minLatitude = null, string? maxLatitude = null, string? minLongitude = null,
         string? maxLongitude = null, string? latitude = null, string? longitude = null, string? radiusKm = null,
@@ -157,6 +189,13 @@ public static class EventEndpoints
 
         var rows = await store.QueryAsync(q, ct);
         var next = rows.Count == limit ? EncodeCursor(rows[^1]) : null;
+        http.Response.Headers.Vary = "Accept";
+        var (format, mediaType) = CatalogMediaTypes.ForDownload(http.Request.Headers.Accept);
+        if (format != CatalogFormat.Json)
+        {
+            var written = CatalogDownload.Write(http, rows, format, mediaType, next);
+            return written.Result is FileContentHttpResult file ? file : (ProblemHttpResult)written.Result;
+        }
         return TypedResults.Ok(new EventPage(rows.Select(EventView.From).ToList(), next));
     }
 
@@ -212,10 +251,4 @@ public static class EventEndpoints
 
     public static string EventUrl(string source, string id) =>
         $"/v1/events/{Uri.EscapeDataString(source)}/{string.Join('/', id.Split('/').Select(Uri.EscapeDataString))}";
-
-    static bool IsJson(string? contentType) =>
-        contentType is not null
-        && Microsoft.Net.Http.Headers.MediaTypeHeaderValue.TryParse(contentType, out var m)
-        && (m.MediaType.Equals("application/json", StringComparison.OrdinalIgnoreCase)
-            || m.MediaType.Value?.EndsWith("+json", StringComparison.OrdinalIgnoreCase) == true);
 }

@@ -172,7 +172,7 @@ public class PublicForecastTests(SequenceApiServer api) : IClassFixture<Sequence
 /// <summary>A server whose public API allows three requests a minute per address.</summary>
 public sealed class RateLimitedApiServer : SequenceApiServer
 {
-    protected override IReadOnlyDictionary<string, string> Settings => new Dictionary<string, string>
+    protected override IReadOnlyDictionary<string, string> ExtraSettings => new Dictionary<string, string>
     {
         ["PublicApi:PermitLimit"] = "3",
         ["PublicApi:Window"] = "00:01:00",

@@ -10,57 +10,17 @@ namespace Forecast.Api.Tests.Sequences;
 
 /// <summary>Like <see cref="ApiServer"/>, with a refit worker that polls every 50 ms (so tests wait for forecasts
 /// briefly) and no Mc bootstrap (the engine's slowest optional step), plus any settings a subclass adds.</summary>
-public class SequenceApiServer : IAsyncLifetime
+public class SequenceApiServer : ApiServer
 {
-    readonly TestDatabase _db = new();
-    WebApplicationFactory<Program>? _factory;
-
-    public string ConnectionString => _db.ConnectionString;
-    public Uri BaseAddress { get; private set; } = null!;
-
-    protected virtual IReadOnlyDictionary<string, string> Settings => new Dictionary<string, string>();
-
-    public async Task InitializeAsync()
+    protected override IReadOnlyDictionary<string, string> Settings => new Dictionary<string, string>
     {
-        await _db.InitializeAsync();
-        _factory = new WebApplicationFactory<Program>().WithWebHostBuilder(b =>
-        {
-            b.UseSetting("ConnectionStrings:Forecast", _db.ConnectionString);
-            b.UseSetting("Forecast:BootstrapAdminKey", ApiServer.AdminKey);
-            b.UseSetting("Logging:LogLevel:Default", "Warning");
-            b.UseSetting("RefitWorker:PollInterval", "00:00:00.050");
-            b.UseSetting("Forecasts:BootstrapSamples", "0");
-            b.UseSetting("Forecasts:AgencyName", "the Test Seismic Service");
-            foreach (var (k, v) in Settings) b.UseSetting(k, v);
-            b.UseEnvironment("Production");
-        });
-        _factory.UseKestrel(k => k.Listen(IPAddress.Loopback, 0));
-        _factory.StartServer();
-        using var probe = _factory.CreateClient();
-        BaseAddress = probe.BaseAddress!;
-    }
+        ["RefitWorker:PollInterval"] = "00:00:00.050",
+        ["Forecasts:BootstrapSamples"] = "0",
+        ["Forecasts:AgencyName"] = "the Test Seismic Service",
+    }.Concat(ExtraSettings).ToDictionary(kv => kv.Key, kv => kv.Value);
 
-    public async Task DisposeAsync()
-    {
-        if (_factory is not null) await _factory.DisposeAsync();
-        await _db.DisposeAsync();
-    }
-
-    public HttpClient Client(string? key = null)
-    {
-        var client = new HttpClient { BaseAddress = BaseAddress };
-        if (key is not null) client.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", key);
-        return client;
-    }
-
-    public async Task<string> NewKeyAsync(string role, string name = "test")
-    {
-        using var admin = Client(ApiServer.AdminKey);
-        var response = await admin.PostAsJsonAsync("/v1/keys", new { name, role });
-        response.EnsureSuccessStatusCode();
-        var body = await response.Content.ReadFromJsonAsync<JsonElement>();
-        return body.GetProperty("key").GetString()!;
-    }
+    /// <summary>Settings a subclass adds.</summary>
+    protected virtual IReadOnlyDictionary<string, string> ExtraSettings => new Dictionary<string, string>();
 }
 
 /// <summary>Posting events and waiting for the worker's forecasts.</summary>

@@ -1,0 +1,100 @@
+using System.Text.Json;
+using Forecast.Core.Zone;
+
+namespace Forecast.Formats;
+
+/// <summary>What the GeoJSON feed says of one released forecast: plain values, supplied by the host.</summary>
+public sealed record ForecastFeature(
+    string ForecastId, string MainshockId, double MainshockLatitude, double MainshockLongitude,
+    double MainshockMagnitude, DateTime MainshockTimeUtc, double ZoneRadiusKm, DateTime IssuedUtc,
+    DateTime WindowStartUtc, DateTime WindowEndUtc, double MinMagnitude, double Probability, int ExpectedLow,
+    int ExpectedHigh, string State, bool Exercise, string? AdvisoryUrl);
+
+/// <summary>RFC 7946 GeoJSON of released forecasts: per forecast a Point feature (the mainshock) and a Polygon
+/// feature (the aftershock zone), with the same summary properties and <c>role</c> telling them apart.</summary>
+/// <remarks>Positions are [longitude, latitude] (RFC 7946, 3.1.1) rounded to 6 decimals, about 0.1 m
+/// (RFC 7946, 11.2). The zone ring is closed (3.1.6: first and last positions equal) and counter-clockwise
+/// (3.1.6: exterior rings follow the right-hand rule): <see cref="AftershockZone.Boundary"/> runs clockwise from
+/// north, so it is reversed. Limitation: a zone crossing the antimeridian is not split as 3.1.9 asks.</remarks>
+public static class ForecastGeoJson
+{
+    public const int DefaultVertices = 72;
+
+    /// <summary>The zone's exterior ring as closed, counter-clockwise (longitude, latitude) positions.</summary>
+    public static IReadOnlyList<(double Longitude, double Latitude)> ZoneRing(
+        double centreLat, double centreLon, double radiusKm, int vertices = DefaultVertices)
+    {
+        var clockwise = AftershockZone.Boundary(centreLat, centreLon, radiusKm, vertices);
+        var ring = new List<(double, double)>(clockwise.Count);
+        for (var i = clockwise.Count - 1; i >= 0; i--)
+            ring.Add((Math.Round(clockwise[i].Longitude, 6), Math.Round(clockwise[i].Latitude, 6)));
+        return ring;
+    }
+
+    public static void WriteFeatureCollection(Stream stream, IEnumerable<ForecastFeature> forecasts,
+        int vertices = DefaultVertices)
+    {
+        using var json = new Utf8JsonWriter(stream, new JsonWriterOptions { Indented = false });
+        json.WriteStartObject();
+        json.WriteString("type", "FeatureCollection");
+        json.WriteStartArray("features");
+        foreach (var f in forecasts)
+        {
+            Feature(json, f, "mainshock", () =>
+            {
+                json.WriteString("type", "Point");
+                json.WriteStartArray("coordinates");
+                json.WriteNumberValue(Math.Round(f.MainshockLongitude, 6));
+                json.WriteNumberValue(Math.Round(f.MainshockLatitude, 6));
+                json.WriteEndArray();
+            });
+            Feature(json, f, "zone", () =>
+            {
+                json.WriteString("type", "Polygon");
+                json.WriteStartArray("coordinates");
+                json.WriteStartArray();
+                foreach (var (lon, lat) in ZoneRing(f.MainshockLatitude, f.MainshockLongitude, f.ZoneRadiusKm, vertices))
+                {
+                    json.WriteStartArray();
+                    json.WriteNumberValue(lon);
+                    json.WriteNumberValue(lat);
+                    json.WriteEndArray();
+                }
+                json.WriteEndArray();
+                json.WriteEndArray();
+            });
+        }
+        json.WriteEndArray();
+        json.WriteEndObject();
+    }
+
+    static void Feature(Utf8JsonWriter json, ForecastFeature f, string role, Action geometry)
+    {
+        json.WriteStartObject();
+        json.WriteString("type", "Feature");
+        json.WriteString("id", $"{f.ForecastId}-{role}");
+        json.WriteStartObject("geometry");
+        geometry();
+        json.WriteEndObject();
+        json.WriteStartObject("properties");
+        json.WriteString("role", role);
+        json.WriteString("forecastId", f.ForecastId);
+        json.WriteString("mainshockId", f.MainshockId);
+        json.WriteNumber("mainshockMagnitude", f.MainshockMagnitude);
+        json.WriteString("mainshockTime", IsoTime.Write(f.MainshockTimeUtc));
+        json.WriteNumber("zoneRadiusKm", f.ZoneRadiusKm);
+        json.WriteString("issued", IsoTime.Write(f.IssuedUtc));
+        json.WriteString("windowStart", IsoTime.Write(f.WindowStartUtc));
+        json.WriteString("windowEnd", IsoTime.Write(f.WindowEndUtc));
+        json.WriteNumber("minMagnitude", f.MinMagnitude);
+        json.WriteNumber("probability", f.Probability);
+        json.WriteNumber("expectedLow", f.ExpectedLow);
+        json.WriteNumber("expectedHigh", f.ExpectedHigh);
+        json.WriteString("state", f.State);
+        json.WriteBoolean("exercise", f.Exercise);
+        if (f.AdvisoryUrl is null) json.WriteNull("advisory");
+        else json.WriteString("advisory", f.AdvisoryUrl);
+        json.WriteEndObject();
+        json.WriteEndObject();
+    }
+}
