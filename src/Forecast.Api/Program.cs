@@ -40,8 +40,21 @@ builder.Services.AddHealthChecks().AddNpgSql(tags: ["ready"], timeout: TimeSpan.
 builder.Services.ConfigureHttpJsonOptions(o =>
     o.SerializerOptions.Converters.Add(new System.Text.Json.Serialization.JsonStringEnumConverter()));
 builder.Services.AddEndpointsApiExplorer();
-builder.Services.AddSwaggerGen(o => o.SwaggerDoc("v1", new() { Title = "Forecast", Version = "v1",
-    Description = "Aftershock forecasts from a live event catalog. Send API keys as 'Authorization: Bearer <key>'." }));
+builder.Services.AddSwaggerGen(o =>
+{
+    o.SwaggerDoc("v1", new() { Title = "Forecast", Version = "v1",
+        Description = "Aftershock forecasts from a live event catalog. Send API keys as 'Authorization: Bearer <key>'." });
+    // Lets Swagger UI's "Authorize" send the key; public reads and health ignore it.
+    o.AddSecurityDefinition("bearer", new Microsoft.OpenApi.OpenApiSecurityScheme
+    {
+        Type = Microsoft.OpenApi.SecuritySchemeType.Http, Scheme = "bearer",
+        Description = "An API key (feeder, analyst or admin).",
+    });
+    o.AddSecurityRequirement(document => new Microsoft.OpenApi.OpenApiSecurityRequirement
+    {
+        [new Microsoft.OpenApi.OpenApiSecuritySchemeReference("bearer", document)] = [],
+    });
+});
 
 var app = builder.Build();
 

@@ -40,11 +40,13 @@ static class DemoCommand
                 lines.Add($"{name,-8} {created.Secret}");
             }
 
-            var events = DemoScenario.Events();
+            var stored = await new EventStore(db).FindAsync(DemoScenario.Source, DemoScenario.MainshockId, ct);
+            var origin = stored?.OriginTime ?? DemoScenario.FreshOriginUtc(DateTime.UtcNow);
+            var events = DemoScenario.Events(origin);
             var summary = await new EventStore(db).UpsertAsync(events, keyId: null, ct);
             Console.WriteLine($"demo scenario: {summary.Total} events ({summary.Created} new, " +
                               $"{summary.Revised} revised, {summary.Unchanged} unchanged)");
-            await LoadSequenceAsync(db, ct);
+            await LoadSequenceAsync(db, origin, ct);
 
             if (parse.GetValue(keysFile) is { } file) await File.WriteAllLinesAsync(file.FullName, lines, ct);
             else lines.ForEach(Console.WriteLine);
@@ -55,7 +57,7 @@ static class DemoCommand
 
     /// <summary>Declares the demo mainshock, then issues a forecast one day after it (released) and one two days
     /// after it (left as a draft for review). Skipped when the sequence already has a released forecast.</summary>
-    static async Task LoadSequenceAsync(Npgsql.NpgsqlDataSource db, CancellationToken ct)
+    static async Task LoadSequenceAsync(Npgsql.NpgsqlDataSource db, DateTime origin, CancellationToken ct)
     {
         var sequences = new SequenceStore(db, new SequenceSettings());
         var forecastStore = new ForecastStore(db);
@@ -68,6 +70,8 @@ static class DemoCommand
             Name = $"M {DemoScenario.MainshockMagnitude:0.0} {DemoScenario.RegionName} (invented demo)",
             // An invented background: one independent M >= 4 event in the region every 200 days.
             BackgroundRatePerDay = 0.005, BackgroundMagnitude = 4.0,
+            // Invented data: marked as an exercise so no page or feed can present it as a real forecast.
+            Exercise = true,
         }, keyId: null, ct);
         var id = declared.SequenceId ?? throw new CliException($"The demo mainshock could not be declared ({declared.Outcome}).");
         // The sequence's own candidates (the mainshock and any large aftershock) open nothing: they are in its zone.
@@ -79,7 +83,7 @@ static class DemoCommand
             return;
         }
         var now = DateTime.UtcNow;
-        DateTime Issue(double days) => DemoScenario.OriginUtc.AddDays(days) < now ? DemoScenario.OriginUtc.AddDays(days) : now;
+        DateTime Issue(double days) => origin.AddDays(days) < now ? origin.AddDays(days) : now;
         var released = (await service.ComputeAsync(id, new ComputeOptions { IssueTimeUtc = Issue(1) }, "demo", null,
             skipIfUnchanged: false, ct))!;
         await forecastStore.ReleaseAsync(id, released.Number, editedAdvisory: null, keyId: null, ct);

@@ -18,13 +18,17 @@ static class DemoScenario
     public const double Days = 2.0;
     const int Seed = 2026;
 
-    /// <summary>Fixed, so reloading is idempotent; two days before the forecasts the demo issues.</summary>
-    public static readonly DateTime OriginUtc = new(2026, 11, 28, 3, 0, 0, DateTimeKind.Utc);
+    /// <summary>The mainshock time of a first load: two days ago, on the hour, so the sequence runs up to now and
+    /// the forecasts the service issues at once do not look at a gap. A later load reuses the stored time.</summary>
+    public static DateTime FreshOriginUtc(DateTime nowUtc) =>
+        new DateTime(nowUtc.Ticks - nowUtc.Ticks % TimeSpan.TicksPerHour, DateTimeKind.Utc).AddDays(-Days);
 
-    public static IReadOnlyList<EventInput> Events()
+    /// <summary>The demo events for a mainshock at <paramref name="originUtc"/>: the same events for the same
+    /// time, so loading the demo twice changes nothing.</summary>
+    public static IReadOnlyList<EventInput> Events(DateTime originUtc)
     {
         var spec = SimulatedSequenceSpec.FromReasenbergJones(GenericParameterSets.ReasenbergJones1989.Mean,
-            MainshockMagnitude, mc: 2.5, OriginUtc, sDays: 0, tDays: Days) with
+            MainshockMagnitude, mc: 2.5, originUtc, sDays: 0, tDays: Days) with
         {
             EarlyIncompleteness = true, ScatterKm = 5,
         };

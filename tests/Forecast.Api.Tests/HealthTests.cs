@@ -29,5 +29,8 @@ public class HealthTests(ApiServer api) : IClassFixture<ApiServer>
         var json = await client.GetStringAsync("/swagger/v1/swagger.json");
         Assert.Contains("\"/v1/events\"", json);
         Assert.Contains("\"/v1/keys\"", json);
+        // OpenAPI 3 HTTP bearer scheme, so Swagger UI can send a key (OpenAPI Specification 3.0, Security Scheme Object).
+        var schemes = System.Text.Json.JsonDocument.Parse(json).RootElement.GetProperty("components").GetProperty("securitySchemes");
+        Assert.Equal("bearer", schemes.GetProperty("bearer").GetProperty("scheme").GetString());
     }
 }
