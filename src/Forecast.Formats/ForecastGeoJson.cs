@@ -4,11 +4,17 @@ using Forecast.Core.Zone;
 namespace Forecast.Formats;
 
 /// <summary>What the GeoJSON feed says of one released forecast: plain values, supplied by the host.</summary>
+/// <param name="ExpectedLow">Lower end of the 95 % range of the number of shocks in the window.</param>
+/// <param name="SequenceId">The trailing members are optional: written only when given (the notice always).</param>
+/// <param name="Notice">The drill notice; written as null for a real forecast.</param>
+/// <param name="ExpectedNumber">The mean number of shocks expected in the window.</param>
+/// <param name="CapUrl">Where the CAP 1.2 alert of the forecast is served.</param>
 public sealed record ForecastFeature(
     string ForecastId, string MainshockId, double MainshockLatitude, double MainshockLongitude,
     double MainshockMagnitude, DateTime MainshockTimeUtc, double ZoneRadiusKm, DateTime IssuedUtc,
     DateTime WindowStartUtc, DateTime WindowEndUtc, double MinMagnitude, double Probability, int ExpectedLow,
-    int ExpectedHigh, string State, bool Exercise, string? AdvisoryUrl);
+    int ExpectedHigh, string State, bool Exercise, string? AdvisoryUrl, long? SequenceId = null, int? Number = null,
+    string? Title = null, string? Notice = null, double? ExpectedNumber = null, string? CapUrl = null);
 
 /// <summary>RFC 7946 GeoJSON of released forecasts: per forecast a Point feature (the mainshock) and a Polygon
 /// feature (the aftershock zone), with the same summary properties and <c>role</c> telling them apart.</summary>
@@ -79,6 +85,9 @@ public static class ForecastGeoJson
         json.WriteStartObject("properties");
         json.WriteString("role", role);
         json.WriteString("forecastId", f.ForecastId);
+        if (f.SequenceId is { } sequenceId) json.WriteNumber("sequenceId", sequenceId);
+        if (f.Number is { } number) json.WriteNumber("number", number);
+        if (f.Title is not null) json.WriteString("title", f.Title);
         json.WriteString("mainshockId", f.MainshockId);
         json.WriteNumber("mainshockMagnitude", f.MainshockMagnitude);
         json.WriteString("mainshockTime", IsoTime.Write(f.MainshockTimeUtc));
@@ -88,12 +97,16 @@ public static class ForecastGeoJson
         json.WriteString("windowEnd", IsoTime.Write(f.WindowEndUtc));
         json.WriteNumber("minMagnitude", f.MinMagnitude);
         json.WriteNumber("probability", f.Probability);
+        if (f.ExpectedNumber is { } expected) json.WriteNumber("expectedNumber", expected);
         json.WriteNumber("expectedLow", f.ExpectedLow);
         json.WriteNumber("expectedHigh", f.ExpectedHigh);
         json.WriteString("state", f.State);
         json.WriteBoolean("exercise", f.Exercise);
+        if (f.Notice is null) json.WriteNull("notice");
+        else json.WriteString("notice", f.Notice);
         if (f.AdvisoryUrl is null) json.WriteNull("advisory");
         else json.WriteString("advisory", f.AdvisoryUrl);
+        if (f.CapUrl is not null) json.WriteString("cap", f.CapUrl);
         json.WriteEndObject();
         json.WriteEndObject();
     }

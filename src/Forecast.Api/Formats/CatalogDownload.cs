@@ -17,7 +17,6 @@ public static class CatalogDownload
     public static Results<FileContentHttpResult, ProblemHttpResult> Write(
         HttpContext http, IReadOnlyList<EventRow> rows, CatalogFormat format, string mediaType, string? nextCursor)
     {
-        var records = rows.Select(ToRecord).ToList();
         if (nextCursor is not null)
         {
             var query = http.Request.Query.Where(q => q.Key != "cursor")
@@ -25,7 +24,14 @@ public static class CatalogDownload
                 .Append(new KeyValuePair<string, string?>("cursor", nextCursor));
             http.Response.Headers.Link = $"<{QueryHelpers.AddQueryString(http.Request.Path, query)}>; rel=\"next\"";
         }
+        return Write(rows.Select(ToRecord).ToList(), format, mediaType);
+    }
 
+    /// <summary>Writes <paramref name="records"/> whole, as QuakeML 1.2 or FDSN text; a problem when an event
+    /// cannot be written as FDSN text.</summary>
+    public static Results<FileContentHttpResult, ProblemHttpResult> Write(
+        IReadOnlyList<EventRecord> records, CatalogFormat format, string mediaType)
+    {
         using var buffer = new MemoryStream();
         if (format == CatalogFormat.QuakeMl)
         {

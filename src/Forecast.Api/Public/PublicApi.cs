@@ -23,6 +23,14 @@ public sealed class PublicApiOptions
     [Range(1, 1_000_000)] public int PermitLimit { get; init; } = 120;
 
     [Range(typeof(TimeSpan), "00:00:01", "01:00:00")] public TimeSpan Window { get; init; } = TimeSpan.FromMinutes(1);
+
+    /// <summary>CAP 1.2 <c>sender</c>: globally unique to this service, for example its domain name
+    /// (CAP 1.2, 3.2.1: no spaces, commas or restricted characters).</summary>
+    [Required, RegularExpression(@"^[^\s,<&]+$")] public string CapSender { get; init; } = "aftershock-forecast.invalid";
+
+    /// <summary>Absolute base of the links in the GeoJSON feed and CAP alerts, e.g. https://forecast.example.org,
+    /// for a service behind a proxy; empty (the default) takes the request's own scheme and host.</summary>
+    [Url] public string? BaseUrl { get; init; }
 }
 
 public static class PublicApi

@@ -20,7 +20,9 @@ public static class SequenceEndpoints
         group.MapGet("/{id:long}", Get).WithName("GetSequence").RequireAuthorization()
             .WithSummary("One sequence: mainshock, zone, choices, last fit error, mainshock changes");
         group.MapGet("/{id:long}/events", Members).WithName("GetSequenceEvents").RequireAuthorization()
-            .WithSummary("The mainshock, foreshocks and aftershocks of the sequence as the catalog stands");
+            .WithSummary("The mainshock, foreshocks and aftershocks of the sequence as the catalog stands; by Accept, " +
+                          "JSON (the default), QuakeML 1.2 (application/vnd.quakeml+xml, application/xml, text/xml) " +
+                          "or FDSN event text (text/plain), all members in time order");
         group.MapPatch("/{id:long}", Edit).WithName("EditSequence").RequireAuthorization(Policies.Analyst)
             .WithSummary("Change the name, zone, prior, Mc, fit start, exercise flag or background rate; queues a refit");
         group.MapPost("/{id:long}/close", Close).WithName("CloseSequence").RequireAuthorization(Policies.Analyst)
@@ -79,14 +81,27 @@ public static class SequenceEndpoints
         return TypedResults.Ok(SequenceView.From(row, await store.MainshockChangesAsync(id, ct)));
     }
 
-    static async Task<Results<Ok<MembershipView>, ProblemHttpResult>> Members(
-        long id, SequenceStore store, CancellationToken ct)
+    static async Task<Results<Ok<MembershipView>, FileContentHttpResult, ProblemHttpResult>> Members(
+        long id, HttpContext http, SequenceStore store, CancellationToken ct)
     {
         var row = await store.FindAsync(id, ct);
         if (row is null) return Problems.NotFound("sequence", id);
         try
         {
             var m = await store.MembersAsync(row, null, ct);
+            http.Response.Headers.Vary = "Accept";
+            var (format, mediaType) = Formats.CatalogMediaTypes.ForDownload(http.Request.Headers.Accept);
+            if (format != Formats.CatalogFormat.Json)
+            {
+                // The formats have no roles: the members go out in time order, as the catalog query would list them.
+                var records = m.Foreshocks.Append(m.Mainshock).Concat(m.Aftershocks)
+                    .OrderBy(e => e.OriginTime).ThenBy(e => e.Pk)
+                    .Select(e => new Forecast.Formats.EventRecord(e.Source, e.EventId, e.OriginTime, e.Latitude,
+                        e.Longitude, e.DepthKm, e.Magnitude, e.MagnitudeType, e.Status))
+                    .ToList();
+                var written = Formats.CatalogDownload.Write(records, format, mediaType);
+                return written.Result is FileContentHttpResult file ? file : (ProblemHttpResult)written.Result;
+            }
             return TypedResults.Ok(new MembershipView(id, SequenceView.ExerciseNotice(row.Exercise), MemberView.From(m.Mainshock),
                 m.Foreshocks.Select(MemberView.From).ToList(), m.Aftershocks.Select(MemberView.From).ToList()));
         }
