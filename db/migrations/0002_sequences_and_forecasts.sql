@@ -84,30 +84,34 @@ insert into sequence_setting default values;
 -- sequence whose zone holds an event's new or previous position (a revision may move an event out), and queues
 -- events at or above the trigger magnitude as candidate mainshocks.
 create function queue_sequence_work(event_pks bigint[]) returns void
-language sql as $$
-    with touched as (
-        select e.latitude, e.longitude from event e where e.id = any(event_pks)
-        union
-        select r.latitude, r.longitude
-        from event e join event_revision r on r.event_pk = e.id and r.version = e.version - 1
-        where e.id = any(event_pks)
-    )
-    insert into refit_queue as q (sequence_id, reason)
-    select distinct s.id, 'event'
-    from sequence s
-    join touched p on
-        6371.0 * 2 * asin(least(1.0, sqrt(power(sin(radians(p.latitude - s.centre_latitude) / 2), 2)
-            + cos(radians(s.centre_latitude)) * cos(radians(p.latitude))
-              * power(sin(radians(p.longitude - s.centre_longitude) / 2), 2)))) <= s.zone_radius_km
-    where s.status = 'active'
-    on conflict (sequence_id) do update set generation = q.generation + 1, reason = 'event';
+language plpgsql as $$
+begin
+    -- Bulk loads into a region with no active sequence (backfills, replays) skip the zone tests entirely.
+    if exists (select 1 from sequence where status = 'active') then
+        with touched as (
+            select e.latitude, e.longitude from event e where e.id = any(event_pks)
+            union
+            select r.latitude, r.longitude
+            from event e join event_revision r on r.event_pk = e.id and r.version = e.version - 1
+            where e.id = any(event_pks) and e.version > 1
+        )
+        insert into refit_queue as q (sequence_id, reason)
+        select distinct s.id, 'event'
+        from sequence s
+        join touched p on
+            6371.0 * 2 * asin(least(1.0, sqrt(power(sin(radians(p.latitude - s.centre_latitude) / 2), 2)
+                + cos(radians(s.centre_latitude)) * cos(radians(p.latitude))
+                  * power(sin(radians(p.longitude - s.centre_longitude) / 2), 2)))) <= s.zone_radius_km
+        where s.status = 'active'
+        on conflict (sequence_id) do update set generation = q.generation + 1, reason = 'event';
+    end if;
 
     insert into sequence_candidate (event_pk)
     select e.id from event e
     where e.id = any(event_pks) and e.status <> 'deleted'
       and e.magnitude >= (select trigger_magnitude from sequence_setting)
     on conflict do nothing;
-$$;
+end $$;
 
 create table forecast (
     id               bigint generated always as identity primary key,

@@ -14,7 +14,7 @@ public sealed class RefitWorkerOptions
     public bool Enabled { get; init; } = true;
 
     /// <summary>Pause between polls of the queue when it is empty.</summary>
-    [Range(typeof(TimeSpan), "00:00:00.010", "01:00:00")] public TimeSpan PollInterval { get; init; } = TimeSpan.FromSeconds(2);
+    [Range(typeof(TimeSpan), "00:00:00.010", "01:00:00")] public TimeSpan PollInterval { get; init; } = TimeSpan.FromMilliseconds(250);
 
     /// <summary>How long a claimed refit is held before another worker may take it over (a fit must finish within it).</summary>
     [Range(typeof(TimeSpan), "00:00:05", "01:00:00")] public TimeSpan Lease { get; init; } = TimeSpan.FromMinutes(5);

@@ -69,9 +69,6 @@ public sealed class EventStore(NpgsqlDataSource db)
             }
             await copy.CompleteAsync(ct);
         }
-        // A temporary table has no statistics until analysed; without them the planner guesses a handful of
-        // rows and may choose nested loops over a 100,000-row batch.
-        await conn.ExecuteAsync(new CommandDefinition("analyze event_stage", transaction: tx, cancellationToken: ct));
 
         // The SET list reads the locked current row (e.*) against the new values (excluded.*): that is
         // where "what changed" is known for certain, even when another batch revised the event a moment ago.
@@ -109,35 +106,37 @@ public sealed class EventStore(NpgsqlDataSource db)
                        magnitude_type, status
                 from written
             )
-            -- Unchanged events keep the version the statement's snapshot saw.
-            select s.ord, coalesce(w.version, e.version) as version, w.version is not null as written
+            select s.ord, w.version, w.id as pk
             from event_stage s
-            left join written w on w.source = s.source and w.event_id = s.event_id
-            left join event e on e.source = s.source and e.event_id = s.event_id
+            join written w on w.source = s.source and w.event_id = s.event_id
             """;
-        var rows = (await conn.QueryAsync<(int Ord, int Version, bool Written)>(
+        var rows = (await conn.QueryAsync<(int Ord, int Version, long Pk)>(
             new CommandDefinition(upsert, new { keyId }, tx, cancellationToken: ct))).AsList();
+        // Events the upsert left alone keep their current version; ask only when there are any.
+        var unchanged = rows.Count == events.Count ? [] : (await conn.QueryAsync<(int Ord, int Version)>(
+            new CommandDefinition("""
+                select s.ord, e.version from event_stage s
+                join event e on e.source = s.source and e.event_id = s.event_id
+                where not exists (select 1 from unnest(@writtenOrds) w(ord) where w.ord = s.ord)
+                """, new { writtenOrds = rows.Select(r => r.Ord).ToArray() }, tx, cancellationToken: ct))).AsList();
 
         // In the same transaction: queue refits of the active sequences the written events touch, and big events
         // as candidate mainshocks (issue 4), so nothing acknowledged is ever missed by the forecasts.
-        var writtenOrds = rows.Where(r => r.Written).Select(r => r.Ord).ToArray();
-        if (writtenOrds.Length > 0)
+        var writtenPks = rows.Select(r => r.Pk).ToArray();
+        if (writtenPks.Length > 0)
         {
-            await conn.ExecuteAsync(new CommandDefinition("""
-                select queue_sequence_work(array(
-                    select e.id from event_stage s join event e on e.source = s.source and e.event_id = s.event_id
-                    where s.ord = any(@writtenOrds)))
-                """, new { writtenOrds }, tx, cancellationToken: ct));
+            await conn.ExecuteAsync(new CommandDefinition("select queue_sequence_work(@writtenPks)",
+                new { writtenPks }, tx, cancellationToken: ct));
         }
         await tx.CommitAsync(ct);
 
         var items = new EventUpsertItem[events.Count];
         int created = 0, revised = 0;
-        foreach (var (ord, version, written) in rows)
+        foreach (var (ord, version) in unchanged)
+            items[ord] = new EventUpsertItem(events[ord].Source, events[ord].EventId, EventOutcome.Unchanged, version);
+        foreach (var (ord, version, _) in rows)
         {
-            var outcome = !written ? EventOutcome.Unchanged
-                : version == 1 ? EventOutcome.Created
-                : EventOutcome.Revised;
+            var outcome = version == 1 ? EventOutcome.Created : EventOutcome.Revised;
             if (outcome == EventOutcome.Created) created++;
             if (outcome == EventOutcome.Revised) revised++;
             items[ord] = new EventUpsertItem(events[ord].Source, events[ord].EventId, outcome, version);
