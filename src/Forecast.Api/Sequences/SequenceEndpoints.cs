@@ -36,13 +36,7 @@ public static class SequenceEndpoints
         var errors = new Dictionary<string, string[]>();
         if (string.IsNullOrWhiteSpace(body.Mainshock?.Source)) errors["mainshock.source"] = ["is required"];
         if (string.IsNullOrWhiteSpace(body.Mainshock?.Id)) errors["mainshock.id"] = ["is required"];
-        var choices = Check(new SequenceChoices
-        {
-            Name = body.Name, ZoneMultiple = body.ZoneMultiple, ZoneFloorKm = body.ZoneFloorKm,
-            ZoneRadiusKm = body.ZoneRadiusKm, ForeshockDays = body.ForeshockDays, ParameterSet = body.ParameterSet,
-            Mc = body.Mc, FitStartDays = body.FitStartDays, Exercise = body.Exercise,
-            BackgroundRatePerDay = body.BackgroundRatePerDay, BackgroundMagnitude = body.BackgroundMagnitude,
-        }, errors, requireBackgroundPair: true);
+        var choices = Check(((ISequenceFields)body).ToChoices(), errors, requireBackgroundPair: true);
         if (errors.Count > 0) return Problems.Invalid(errors, "The sequence was not declared.");
 
         var result = await store.DeclareAsync(body.Mainshock!.Source!, body.Mainshock.Id!, choices,
@@ -115,13 +109,7 @@ public static class SequenceEndpoints
         long id, EditSequence body, SequenceStore store, CancellationToken ct)
     {
         var errors = new Dictionary<string, string[]>();
-        var choices = Check(new SequenceChoices
-        {
-            Name = body.Name, ZoneMultiple = body.ZoneMultiple, ZoneFloorKm = body.ZoneFloorKm,
-            ZoneRadiusKm = body.ZoneRadiusKm, ForeshockDays = body.ForeshockDays, ParameterSet = body.ParameterSet,
-            Mc = body.Mc, FitStartDays = body.FitStartDays, Exercise = body.Exercise,
-            BackgroundRatePerDay = body.BackgroundRatePerDay, BackgroundMagnitude = body.BackgroundMagnitude,
-        }, errors, requireBackgroundPair: true);
+        var choices = Check(((ISequenceFields)body).ToChoices(), errors, requireBackgroundPair: true);
         if (body.ClearZoneRadius == true && body.ZoneRadiusKm is not null)
             errors["clearZoneRadius"] = ["cannot be combined with zoneRadiusKm"];
         var existing = await store.FindAsync(id, ct);

@@ -10,14 +10,37 @@ public sealed record EventRef(string? Source, string? Id);
 public sealed record DeclareSequence(
     EventRef? Mainshock, string? Name, double? ZoneMultiple, double? ZoneFloorKm, double? ZoneRadiusKm,
     double? ForeshockDays, string? ParameterSet, double? Mc, double? FitStartDays, bool? Exercise,
-    double? BackgroundRatePerDay, double? BackgroundMagnitude);
+    double? BackgroundRatePerDay, double? BackgroundMagnitude) : ISequenceFields;
+
+/// <summary>The analyst's choices shared by declaring and editing a sequence.</summary>
+public interface ISequenceFields
+{
+    string? Name { get; }
+    double? ZoneMultiple { get; }
+    double? ZoneFloorKm { get; }
+    double? ZoneRadiusKm { get; }
+    double? ForeshockDays { get; }
+    string? ParameterSet { get; }
+    double? Mc { get; }
+    double? FitStartDays { get; }
+    bool? Exercise { get; }
+    double? BackgroundRatePerDay { get; }
+    double? BackgroundMagnitude { get; }
+
+    Forecast.Storage.Sequences.SequenceChoices ToChoices() => new()
+    {
+        Name = Name, ZoneMultiple = ZoneMultiple, ZoneFloorKm = ZoneFloorKm, ZoneRadiusKm = ZoneRadiusKm,
+        ForeshockDays = ForeshockDays, ParameterSet = ParameterSet, Mc = Mc, FitStartDays = FitStartDays,
+        Exercise = Exercise, BackgroundRatePerDay = BackgroundRatePerDay, BackgroundMagnitude = BackgroundMagnitude,
+    };
+}
 
 /// <summary>The body of <c>PATCH /v1/sequences/{id}</c>: fields given are changed, the others kept.
 /// <c>clearZoneRadius</c> goes back to the scaling relation.</summary>
 public sealed record EditSequence(
     string? Name, double? ZoneMultiple, double? ZoneFloorKm, double? ZoneRadiusKm, bool? ClearZoneRadius,
     double? ForeshockDays, string? ParameterSet, double? Mc, double? FitStartDays, bool? Exercise,
-    double? BackgroundRatePerDay, double? BackgroundMagnitude);
+    double? BackgroundRatePerDay, double? BackgroundMagnitude) : ISequenceFields;
 
 public sealed record ZoneView(
     double CentreLatitude, double CentreLongitude, double RadiusKm, double Multiple, double FloorKm,
