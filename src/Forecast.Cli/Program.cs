@@ -9,4 +9,5 @@ root.Subcommands.Add(DatabaseCommands.Keys());
 root.Subcommands.Add(DemoCommand.Create());
 root.Subcommands.Add(BenchCommand.Create());
 root.Subcommands.Add(BenchRefitCommand.Create());
+root.Subcommands.Add(BenchUploadCommand.Create());
 return await root.Parse(args).InvokeAsync();

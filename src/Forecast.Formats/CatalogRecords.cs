@@ -61,6 +61,13 @@ public sealed record CatalogReadOptions
     public int MaxDepth { get; init; } = 32;
 }
 
+/// <summary>What a pass over a document found, without its events (<see cref="CatalogReader.Scan"/>).</summary>
+public sealed record CatalogScan(
+    IReadOnlyList<FormatError> Errors, int Count, int BadItems, FormatError? Fatal, bool TooManyEvents)
+{
+    public bool IsValid => Fatal is null && !TooManyEvents && Errors.Count == 0 && Count > 0;
+}
+
 /// <summary>A whole document read: the events when every one is good, else the problems.</summary>
 public sealed record CatalogReadResult(
     IReadOnlyList<EventRecord> Events, IReadOnlyList<FormatError> Errors, int Count, int BadItems,
@@ -74,22 +81,31 @@ public static class CatalogReader
     public const int MaxReportedErrors = 200;
 
     /// <summary>Drains a streaming reader into a list, collecting at most <see cref="MaxReportedErrors"/>
-    /// problems; stops at <paramref name="maxEvents"/> + 1 events. Events are still collected after a bad one so
-    /// the count is right, but the caller stores nothing unless the result <see cref="CatalogReadResult.IsValid"/>.
-    /// </summary>
+    /// problems; stops at <paramref name="maxEvents"/> + 1 events. The caller stores nothing unless the result
+    /// <see cref="CatalogReadResult.IsValid"/>.</summary>
     public static CatalogReadResult ReadAll(IEnumerable<EventItem> items, int maxEvents = int.MaxValue)
     {
         var events = new List<EventRecord>();
+        var scan = Scan(items, events.Add, maxEvents);
+        return new(events, scan.Errors, scan.Count, scan.BadItems, scan.Fatal, scan.TooManyEvents);
+    }
+
+    /// <summary>Reads a document event by event without keeping it: <paramref name="onEvent"/> receives each good
+    /// event in document order until the first bad one; after that only problems are collected (at most
+    /// <see cref="MaxReportedErrors"/>) so the count is right. Stops at <paramref name="maxEvents"/> + 1 events.
+    /// </summary>
+    public static CatalogScan Scan(IEnumerable<EventItem> items, Action<EventRecord> onEvent, int maxEvents = int.MaxValue)
+    {
         var errors = new List<FormatError>();
         int count = 0, bad = 0;
         try
         {
             foreach (var item in items)
             {
-                if (++count > maxEvents) return new(events, errors, count, bad, null, true);
+                if (++count > maxEvents) return new(errors, count, bad, null, true);
                 if (item.Event is { } e)
                 {
-                    if (bad == 0) events.Add(e);
+                    if (bad == 0) onEvent(e);
                 }
                 else
                 {
@@ -103,9 +119,9 @@ public static class CatalogReader
         }
         catch (CatalogFormatException e)
         {
-            return new(events, errors, count, bad, e.ToError(), false);
+            return new(errors, count, bad, e.ToError(), false);
         }
         if (count == 0) errors.Add(new FormatError(null, "", "the document holds no events", 0, 0));
-        return new(events, errors, count, bad, null, false);
+        return new(errors, count, bad, null, false);
     }
 }

@@ -53,6 +53,25 @@ public class EventIngestTests(ApiServer api) : IClassFixture<ApiServer>
     }
 
     [Fact]
+    public async Task ABatchNamingAnEventTwiceIsRefusedEvenWhenBothCopiesAreIdenticalAndStored()
+    {
+        using var feeder = api.Client(await api.NewKeyAsync("feeder"));
+        Assert.Equal(HttpStatusCode.Created, (await feeder.PostAsJsonAsync("/v1/events", Event("dup-old"))).StatusCode);
+        var events = await CountAsync("event");
+        var revisions = await CountAsync("event_revision");
+
+        var response = await feeder.PostAsJsonAsync("/v1/events",
+            new[] { Event("dup-new"), Event("dup-old"), Event("dup-new", magnitude: 4), Event("dup-old") });
+
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        var errors = (await response.Content.ReadFromJsonAsync<JsonElement>()).GetProperty("errors");
+        Assert.Contains("item [0]", errors.GetProperty("[2].id")[0].GetString()!, StringComparison.Ordinal);
+        Assert.Contains("item [1]", errors.GetProperty("[3].id")[0].GetString()!, StringComparison.Ordinal);
+        Assert.Equal(events, await CountAsync("event"));
+        Assert.Equal(revisions, await CountAsync("event_revision"));
+    }
+
+    [Fact]
     public async Task AChangedMagnitudeIsARevisionThatKeepsTheOldVersion()
     {
         var key = await api.NewKeyAsync("feeder");

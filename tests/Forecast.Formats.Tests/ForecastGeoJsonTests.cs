@@ -52,6 +52,45 @@ public class ForecastGeoJsonTests
         Assert.True(Orientation.IsCCW(shell.CoordinateSequence));
     }
 
+    [Theory]
+    [InlineData(179.9)]
+    [InlineData(-179.8)]
+    public void AZoneAcrossTheAntimeridianIsCutIntoTwoValidCounterClockwiseParts(double centreLon)
+    {
+        // RFC 7946, 3.1.9: a geometry crossing the antimeridian SHOULD be cut in two so that neither part
+        // crosses it; longitudes stay within [-180, 180] (3.1.1); each exterior ring is counter-clockwise (3.1.6).
+        using var buffer = new MemoryStream();
+        ForecastGeoJson.WriteFeatureCollection(buffer, [Sample with { MainshockLongitude = centreLon, ZoneRadiusKm = 60 }]);
+        var options = new JsonSerializerOptions { Converters = { new GeoJsonConverterFactory() } };
+        var features = JsonSerializer.Deserialize<FeatureCollection>(Encoding.UTF8.GetString(buffer.ToArray()), options)!;
+        var zone = Assert.IsType<MultiPolygon>(features[1].Geometry);
+        Assert.Equal(2, zone.NumGeometries);
+        var sides = new List<double>();
+        foreach (var part in zone.Geometries.Cast<Polygon>())
+        {
+            Assert.True(part.IsValid);
+            Assert.True(Orientation.IsCCW(part.Shell.CoordinateSequence));
+            Assert.All(part.Coordinates, c => Assert.InRange(c.X, -180, 180));
+            // Each part touches the antimeridian on its own side and lies entirely on that side.
+            var edge = part.Coordinates.Select(c => c.X).OrderBy(x => Math.Abs(Math.Abs(x) - 180)).First();
+            Assert.Equal(180, Math.Abs(edge), 9);
+            Assert.All(part.Coordinates, c => Assert.True(Math.Sign(c.X) == Math.Sign(edge) || c.X == 0));
+            sides.Add(Math.Sign(edge));
+        }
+        Assert.Equal([-1.0, 1.0], sides.Order());
+
+        // The two parts together cover what the uncut ring covers (planar areas in degrees², unwrapped).
+        var ring = ForecastGeoJson.ZoneRing(Sample.MainshockLatitude, centreLon, 60)
+            .Select(p => new Coordinate(p.Longitude < 0 && centreLon > 0 ? p.Longitude + 360
+                : p.Longitude > 0 && centreLon < 0 ? p.Longitude - 360 : p.Longitude, p.Latitude)).ToArray();
+        var whole = new GeometryFactory().CreatePolygon(ring);
+        Assert.Equal(whole.Area, zone.Area, 6);
+    }
+
+    [Fact]
+    public void AZoneAwayFromTheAntimeridianIsOnePolygon() =>
+        Assert.Single(ForecastGeoJson.ZoneParts(12.5, 179.0, 25));
+
     [Fact]
     public void TheZoneRingLiesAtTheRadiusInLongitudeLatitudeOrder()
     {

@@ -23,6 +23,46 @@ public sealed class EventStoreTests : IClassFixture<TestDatabase>, IDisposable
         new("st", id, new DateTime(2026, 4, 1, 0, 0, 0, DateTimeKind.Utc).AddMinutes(id.GetHashCode() & 0xff),
             10, lon, 5, magnitude, "ML", status);
 
+    async Task<long> CountAsync(string like)
+    {
+        await using var cmd = _db.CreateCommand("select count(*) from event where event_id like @like");
+        cmd.Parameters.AddWithValue("like", like);
+        return (long)(await cmd.ExecuteScalarAsync())!;
+    }
+
+    [Fact]
+    public async Task ABatchDisposedWithoutCommitStoresNothing()
+    {
+        await using (var batch = await _events.BeginBatchAsync(default))
+        {
+            for (var i = 0; i < 500; i++) batch.Add(Event($"rolled-{i}"));
+            Assert.Equal(500, batch.Count);
+        }
+        Assert.Equal(0, await CountAsync("rolled-%"));
+    }
+
+    [Fact]
+    public async Task ABatchNamingAnEventTwiceReportsEveryRepeatAndStoresNothing()
+    {
+        await using var batch = await _events.BeginBatchAsync(default);
+        foreach (var id in new[] { "twice-a", "twice-b", "twice-a", "twice-c", "twice-b" }) batch.Add(Event(id));
+        var outcome = await batch.CommitAsync(null, 1_000, default);
+        Assert.Null(outcome.Summary);
+        Assert.Equal([new DuplicateItem(2, 0), new DuplicateItem(4, 1)], outcome.Duplicates);
+        Assert.Equal(0, await CountAsync("twice-%"));
+    }
+
+    [Fact]
+    public async Task ABatchLargerThanTheListingLimitReportsCountsOnly()
+    {
+        await using var batch = await _events.BeginBatchAsync(default);
+        for (var i = 0; i < 30; i++) batch.Add(Event($"counted-{i}"));
+        var summary = (await batch.CommitAsync(null, listItemsUpTo: 10, default)).Summary!;
+        Assert.Equal((30, 0, 0), (summary.Created, summary.Revised, summary.Unchanged));
+        Assert.Empty(summary.Items);
+        Assert.Equal(30, await CountAsync("counted-%"));
+    }
+
     [Fact]
     public async Task UpsertReportsCreatedRevisedAndUnchangedInSubmissionOrder()
     {

@@ -43,15 +43,16 @@ public static class EventEndpoints
         var started = System.Diagnostics.Stopwatch.GetTimestamp();
         var format = CatalogMediaTypes.ForUpload(request.ContentType);
         if (format is null) return Problems.UnsupportedMediaType(request.ContentType, CatalogMediaTypes.Uploads);
-        if (request.ContentLength > limits.MaxBodyBytes) return Problems.TooLarge(limits.MaxBodyBytes);
         if (format != CatalogFormat.Json)
         {
-            var read = await CatalogUpload.ReadAsync(request, format.Value, source, status, limits,
-                clock.GetUtcNow().UtcDateTime, ct);
-            if (read.Invalid is { } invalid) return invalid;
-            if (read.Problem is { } problem) return problem;
-            return await StoreAsync(read.Events!, isArray: true, request, store, logs, started, ct);
+            var staged = await CatalogUpload.StageAsync(request, format.Value, source, status, limits,
+                clock.GetUtcNow().UtcDateTime, store, ct);
+            if (staged.Invalid is { } invalid) return invalid;
+            if (staged.Problem is { } problem) return problem;
+            await using var batch = staged.Batch!;
+            return await StoreAsync(batch, isArray: true, request, logs, started, ct);
         }
+        if (request.ContentLength > limits.MaxBodyBytes) return Problems.TooLarge(limits.MaxBodyBytes);
         if (source is not null || status is not null)
         {
             return Problems.Invalid(new Dictionary<string, string[]>
@@ -86,7 +87,6 @@ public static class EventEndpoints
                     $"Send at most {limits.MaxEventsPerPost} events per request; this one has {root.GetArrayLength()}.");
             }
             var parsed = EventJson.Read(root, clock.GetUtcNow().UtcDateTime);
-            if (parsed.Errors.Count == 0) AddDuplicateErrors(parsed.Events, parsed.Errors);
             if (parsed.Errors.Count > 0)
             {
                 var detail = parsed.IsArray
@@ -96,24 +96,33 @@ public static class EventEndpoints
                     detail += $" Only the first {EventJson.MaxReportedErrors} problems are listed.";
                 return Problems.Invalid(parsed.Errors, detail);
             }
-            return await StoreAsync(parsed.Events, parsed.IsArray, request, store, logs, started, ct);
+            await using var batch = await store.BeginBatchAsync(ct);
+            foreach (var e in parsed.Events) batch.Add(e);
+            return await StoreAsync(batch, parsed.IsArray, request, logs, started, ct);
         }
     }
 
-    /// <summary>Stores a checked batch, whatever format it came in, and answers as the JSON ingest always has.
+    /// <summary>Commits a staged batch, whatever format it came in, and answers as the JSON ingest always has.
     /// </summary>
     static async Task<Results<Created<EventWriteResult>, Ok<EventWriteResult>, Ok<BatchWriteResult>,
         ValidationProblem, ProblemHttpResult>> StoreAsync(
-        IReadOnlyList<EventInput> events, bool isArray, HttpRequest request, EventStore store, ILoggerFactory logs,
-        long started, CancellationToken ct)
+        EventBatch batch, bool isArray, HttpRequest request, ILoggerFactory logs, long started, CancellationToken ct)
     {
-        var validated = System.Diagnostics.Stopwatch.GetTimestamp();
-        var summary = await store.UpsertAsync(events, Policies.KeyId(request.HttpContext.User), ct);
+        var staged = System.Diagnostics.Stopwatch.GetTimestamp();
+        var outcome = await batch.CommitAsync(Policies.KeyId(request.HttpContext.User), ItemsListedUpTo, ct);
+        if (outcome.Summary is not { } summary)
+        {
+            // One batch naming the same event twice would make its outcome depend on row order: refuse it.
+            var errors = outcome.Duplicates.ToDictionary(d => $"[{d.Item}].id",
+                d => new[] { $"repeats the event of item [{d.FirstItem}]; send each event once per batch" });
+            return Problems.Invalid(errors, $"The batch names {(outcome.Duplicates.Count == 1 ? "an event" : "events")} " +
+                "more than once; nothing was stored.");
+        }
         logs.CreateLogger("Forecast.Ingest").LogInformation(
-            "Stored {Count} events ({Created} new, {Revised} revised): read and checked in {ReadMs:F0} ms, stored in {StoreMs:F0} ms",
+            "Stored {Count} events ({Created} new, {Revised} revised): read, checked and staged in {ReadMs:F0} ms, stored in {StoreMs:F0} ms",
             summary.Total, summary.Created, summary.Revised,
-            System.Diagnostics.Stopwatch.GetElapsedTime(started, validated).TotalMilliseconds,
-            System.Diagnostics.Stopwatch.GetElapsedTime(validated).TotalMilliseconds);
+            System.Diagnostics.Stopwatch.GetElapsedTime(started, staged).TotalMilliseconds,
+            System.Diagnostics.Stopwatch.GetElapsedTime(staged).TotalMilliseconds);
         if (!isArray)
         {
             var item = View(summary.Items[0]);
@@ -123,18 +132,6 @@ public static class EventEndpoints
         }
         return TypedResults.Ok(new BatchWriteResult(summary.Total, summary.Created, summary.Revised,
             summary.Unchanged, summary.Total <= ItemsListedUpTo ? summary.Items.Select(View).ToList() : null));
-    }
-
-    // One batch naming the same event twice would make its outcome depend on row order: refuse it.
-    internal static void AddDuplicateErrors(IReadOnlyList<EventInput> events, Dictionary<string, string[]> errors)
-    {
-        var first = new Dictionary<(string, string), int>();
-        for (var i = 0; i < events.Count && errors.Count < EventJson.MaxReportedErrors; i++)
-        {
-            var key = (events[i].Source, events[i].EventId);
-            if (!first.TryAdd(key, i))
-                errors[$"[{i}].id"] = [$"repeats the event of item [{first[key]}]; send each event once per batch"];
-        }
     }
 
     static async Task<Results<Ok<EventWithHistory>, ProblemHttpResult>> GetEvent(

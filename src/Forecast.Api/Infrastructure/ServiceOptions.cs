@@ -24,4 +24,9 @@ public sealed class IngestOptions
 
     /// <summary>Largest request body accepted anywhere, in bytes (100,000 JSON events take about 20 MB).</summary>
     [Range(1_024, 1L << 31)] public long MaxBodyBytes { get; init; } = 64L * 1024 * 1024;
+
+    /// <summary>Largest QuakeML or FDSN text body of <c>POST /v1/events</c>, in bytes. These are read event by
+    /// event from a temporary file, so memory does not grow with them (100,000 QuakeML events take about
+    /// 70 MB).</summary>
+    [Range(1_024, 1L << 34)] public long MaxCatalogBodyBytes { get; init; } = 512L * 1024 * 1024;
 }

@@ -174,6 +174,21 @@ public class CatalogFormatTests(ApiServer api) : IClassFixture<ApiServer>
         Assert.Equal(before, await CountEventsAsync());
     }
 
+    [Fact]
+    public async Task AQuakeMlDocumentNamingAnEventTwiceIsRefusedWhole()
+    {
+        using var feeder = api.Client(await api.NewKeyAsync("feeder"));
+        var before = await CountEventsAsync();
+        var doc = QuakeMl(QuakeMlEvent("twice-1", "2024-05-03T01:00:00Z"), QuakeMlEvent("twice-2", "2024-05-03T02:00:00Z"),
+            QuakeMlEvent("twice-1", "2024-05-03T03:00:00Z"));
+        var problem = await ProblemOf(await feeder.PostAsync("/v1/events", Body(doc, QuakeMlType)),
+            HttpStatusCode.BadRequest);
+        Assert.Equal("urn:forecast:problem:validation", problem.GetProperty("type").GetString());
+        Assert.Contains("item [0]", problem.GetProperty("errors").GetProperty("[2].id")[0].GetString()!,
+            StringComparison.Ordinal);
+        Assert.Equal(before, await CountEventsAsync());
+    }
+
     public static TheoryData<string, string, string> MaliciousXml()
     {
         var lol = string.Join("\n", Enumerable.Range(1, 9).Select(i =>
