@@ -120,9 +120,10 @@ public static class ForecastEngine
         var notes = new List<string>();
         var after = request.Events
             .Where(e => e.Id != main.Id && e.TimeUtc > main.TimeUtc && e.TimeUtc <= request.IssueTimeUtc)
-            // A fixed order makes every floating-point sum, and so the result, independent of the input order.
-            .OrderBy(e => e.TimeUtc).ThenBy(e => e.Id, StringComparer.Ordinal)
             .ToList();
+        // A fixed order makes every floating-point sum, and so the result, independent of the input order. Catalogs
+        // usually arrive in this order already: check in one pass before paying for a sort.
+        if (!InOrder(after)) after = after.OrderBy(e => e.TimeUtc).ThenBy(e => e.Id, StringComparer.Ordinal).ToList();
         var magnitudes = after.Select(e => e.Magnitude).ToArray();
         var binWidth = MagnitudeBinning.InferBinWidth(magnitudes);
 
@@ -157,6 +158,16 @@ public static class ForecastEngine
             after.Count, completeness, sDays, sSource, tDays, Report(b), Report(posterior.SequenceFit, b, main, mc, sDays, tDays),
             Report(request.Prior), Report(posterior),
             table.Cells.Select(c => Row(c, main.TimeUtc, request.Background)).ToList(), request.Background, notes);
+    }
+
+    static bool InOrder(List<CatalogEvent> events)
+    {
+        for (var i = 1; i < events.Count; i++)
+        {
+            var order = events[i - 1].TimeUtc.CompareTo(events[i].TimeUtc);
+            if (order > 0 || (order == 0 && string.CompareOrdinal(events[i - 1].Id, events[i].Id) > 0)) return false;
+        }
+        return true;
     }
 
     static double Time(CatalogEvent e, CatalogEvent main) => Units.DaysBetween(main.TimeUtc, e.TimeUtc);

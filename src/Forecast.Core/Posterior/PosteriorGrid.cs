@@ -6,73 +6,133 @@ namespace Forecast.Core.Posterior;
 /// Deterministic nested product-trapezoid quadrature of the posterior over (log10 c, p, kappa, b).
 /// </summary>
 /// <remarks>
-/// log10 c takes fixed nodes on a given range, so <c>sum ln(t_i + c)</c> is one pass per node. Inside, each level
+/// log10 c takes nodes on a fixed lattice <c>origin + j step</c>, so <c>sum ln(t_i + c)</c> is one pass per node,
+/// and a range that is widened keeps every slice already computed (the slice of node j does not depend on the
+/// range; only its trapezoid end weight does, and that is applied when the nodes are collected). Inside, each level
 /// is centred on its conditional mode with a width from its conditional curvature, so the grid follows the strong
 /// c-p-K correlation of Omori fits instead of wasting nodes on an axis-aligned box:
 /// p given c from the profile over kappa (Laplace-corrected), kappa given (c, p) by Newton, b given kappa by
 /// Newton on its exact conditional. A node's weight is the posterior density times the product of the trapezoid
-/// weights of its levels. Each c slice fills its own fixed range of the node arrays (slices run in parallel) and
-/// every sum is sequential in node order, so the output is bit-for-bit reproducible.
+/// weights of its levels. Slices are computed in parallel, each into its own arrays, and every sum is sequential
+/// in node order, so the output is bit-for-bit reproducible.
 /// </remarks>
-internal sealed class PosteriorGrid
+internal sealed class PosteriorGrid(PosteriorModel model, PosteriorOptions options, double origin, double step)
 {
     const double PMin = 0.01, PMax = 6;   // p outside this range is not physical for these windows (project choice)
 
-    // One slot per node, sized up front (gamma x p x kappa x b nodes): no list growth, no copies.
-    double[] kappas = [], bs = [], ps = [], gammas = [], logWeights = [];
-    int[] gammaIndex = [];
+    /// <summary>Mass the lightest nodes may carry together and still be dropped (project choice: far below any
+    /// digit a forecast reports, and it halves the table's work on rich sequences).</summary>
+    public const double PrunedMass = 1e-9;
 
-    public int GammaNodes { get; private init; }
-    public double GammaLow { get; private init; }
-    public double GammaStep { get; private init; }
-
-    /// <summary>Builds the grid on <paramref name="gammaCount"/> log10 c nodes from <paramref name="gammaLow"/>.</summary>
-    public static PosteriorGrid Build(PosteriorModel model, double gammaLow, double gammaStep, int gammaCount, PosteriorOptions options)
+    /// <summary>One log10 c node: its nodes in (p, kappa, b) order, log weights without the log10 c trapezoid weight.
+    /// </summary>
+    sealed class Slice(int size)
     {
-        var grid = new PosteriorGrid { GammaNodes = gammaCount, GammaLow = gammaLow, GammaStep = gammaStep };
-        int sliceSize = options.PNodes * options.KNodes * options.BNodes;
-        grid.Allocate(gammaCount * sliceSize);
-        // The c slices are independent and each fills its own fixed range of the node arrays, so running them in
-        // parallel gives the same arrays, in the same order, as running them one after the other.
-        void Slice(int i)
-        {
-            double gamma = gammaLow + i * gammaStep;
-            double logTrapezoid = Math.Log(gammaStep) + EndWeight(i, gammaCount);
-            grid.AddGammaSlice(model, options, i, i * sliceSize, gamma, logTrapezoid + model.LogPriorGamma(gamma));
-        }
+        public readonly double[] Kappa = new double[size], B = new double[size], P = new double[size];
+        public readonly double[] LogWeight = new double[size];
+    }
+
+    readonly Dictionary<int, Slice> slices = [];
+
+    public double Origin => origin;
+    public double Step => step;
+
+    /// <summary>log10 c of lattice node <paramref name="j"/>.</summary>
+    public double Gamma(int j) => origin + j * step;
+
+    /// <summary>The normalised nodes on lattice nodes <paramref name="first"/> .. first + count - 1, computing the
+    /// slices not known yet; <paramref name="gammaMarginal"/> gets the weight of each of those log10 c nodes.</summary>
+    /// <remarks>Weights below <see cref="PosteriorOptions.PruneBelow"/> of the largest are dropped, then the
+    /// lightest nodes carrying together at most <see cref="PrunedMass"/> of the total (found with a histogram of
+    /// log weights in steps of 1/4, so without a sort), and the rest normalised. Sequential sums: reproducible.
+    /// </remarks>
+    public List<PosteriorNode> Nodes(int first, int count, double deltaM, double pruneBelow, out double[] gammaMarginal)
+    {
+        var missing = Enumerable.Range(first, count).Where(j => !slices.ContainsKey(j)).ToArray();
+        var computed = new Slice[missing.Length];
         try
         {
-            Parallel.For(0, gammaCount, Slice);
+            Parallel.For(0, missing.Length, i => computed[i] = ComputeSlice(Gamma(missing[i])));
         }
         catch (AggregateException e) when (e.InnerExceptions.Count > 0)
         {
             System.Runtime.ExceptionServices.ExceptionDispatchInfo.Throw(e.InnerExceptions[0]);
         }
-        return grid;
+        for (int i = 0; i < missing.Length; i++) slices[missing[i]] = computed[i];
+
+        int sliceSize = options.PNodes * options.KNodes * options.BNodes;
+        var logWeights = new double[count * sliceSize];
+        double logStep = Math.Log(step), max = double.NegativeInfinity;
+        for (int i = 0; i < count; i++)
+        {
+            var slice = slices[first + i];
+            double add = logStep + EndWeight(i, count);
+            for (int k = 0; k < sliceSize; k++)
+            {
+                double lw = logWeights[i * sliceSize + k] = slice.LogWeight[k] + add;
+                if (lw > max) max = lw;
+            }
+        }
+
+        const double BucketsPerUnit = 4;
+        double threshold = Math.Log(pruneBelow);
+        var raw = new double[logWeights.Length];
+        var bucketMass = new double[(int)(-threshold * BucketsPerUnit) + 2];
+        double total = 0;
+        for (int i = 0; i < raw.Length; i++)
+        {
+            double rel = logWeights[i] - max;
+            if (rel < threshold) continue;
+            raw[i] = Math.Exp(rel);
+            total += raw[i];
+            bucketMass[Bucket(rel)] += raw[i];
+        }
+        // Drop whole buckets from the lightest end while their mass stays within PrunedMass of the total.
+        int cut = bucketMass.Length;
+        for (double dropped = 0; cut > 1 && dropped + bucketMass[cut - 1] <= PrunedMass * total; cut--)
+            dropped += bucketMass[cut - 1];
+        double kept = 0;
+        for (int i = 0; i < raw.Length; i++)
+        {
+            if (raw[i] != 0 && Bucket(logWeights[i] - max) >= cut) raw[i] = 0;
+            kept += raw[i];
+        }
+
+        gammaMarginal = new double[count];
+        var nodes = new List<PosteriorNode>();
+        for (int i = 0; i < raw.Length; i++)
+        {
+            if (raw[i] == 0) continue;
+            double w = raw[i] / kept;
+            int g = i / sliceSize, k = i % sliceSize;
+            var slice = slices[first + g];
+            gammaMarginal[g] += w;
+            nodes.Add(new PosteriorNode(slice.Kappa[k] - slice.B[k] * deltaM, slice.B[k], slice.P[k], Gamma(first + g), w));
+        }
+        return nodes;
+
+        static int Bucket(double rel) => (int)(-rel * BucketsPerUnit);
     }
 
-    void Allocate(int nodes)
+    Slice ComputeSlice(double gamma)
     {
-        (kappas, bs, ps, gammas, logWeights) = (new double[nodes], new double[nodes], new double[nodes], new double[nodes], new double[nodes]);
-        gammaIndex = new int[nodes];
-    }
-
-    void AddGammaSlice(PosteriorModel model, PosteriorOptions options, int index, int at, double gamma, double logBase)
-    {
+        var slice = new Slice(options.PNodes * options.KNodes * options.BNodes);
         double c = Math.Pow(10, gamma);
         double sumLog = model.SumLog(c);
         var (pLow, pHigh) = PRange(model, c, sumLog, options.HalfWidthSd);
         double pStep = (pHigh - pLow) / (options.PNodes - 1);
+        double logBase = model.LogPriorGamma(gamma);
+        int at = 0;
         for (int j = 0; j < options.PNodes; j++)
         {
             double p = pLow + j * pStep;
             double logP = logBase + Math.Log(pStep) + EndWeight(j, options.PNodes) + model.LogPriorP(p);
-            AddPSlice(model, options, index, ref at, gamma, c, p, sumLog, logP);
+            AddPSlice(slice, ref at, c, p, sumLog, logP);
         }
+        return slice;
     }
 
-    void AddPSlice(PosteriorModel model, PosteriorOptions options, int index, ref int at, double gamma, double c, double p,
-        double sumLog, double logBase)
+    void AddPSlice(Slice slice, ref int at, double c, double p, double sumLog, double logBase)
     {
         double integral = model.Integral(c, p);
         var (kappaMode, curvature, _) = model.KappaMode(integral);
@@ -84,12 +144,11 @@ internal sealed class PosteriorGrid
             double kappa = kappaMode - half + k * kStep;
             double logK = logBase + logStep + EndWeight(k, options.KNodes)
                 + model.TimeLogLikelihood(kappa, p, sumLog, integral);
-            AddBSlice(model, options, index, ref at, gamma, p, kappa, logK);
+            AddBSlice(slice, ref at, p, kappa, logK);
         }
     }
 
-    void AddBSlice(PosteriorModel model, PosteriorOptions options, int index, ref int at, double gamma, double p, double kappa,
-        double logBase)
+    void AddBSlice(Slice slice, ref int at, double p, double kappa, double logBase)
     {
         var (bMode, curvature) = model.BMode(kappa);
         double half = options.BHalfWidthSd / Math.Sqrt(curvature);
@@ -101,14 +160,11 @@ internal sealed class PosteriorGrid
         {
             double b = bLow + l * bStep;
             double a = kappa - b * model.DeltaM;
-            double logW = logBase + logStep + (l == 0 || l == options.BNodes - 1 ? endWeight : 0)
+            slice.Kappa[at] = kappa;
+            slice.B[at] = b;
+            slice.P[at] = p;
+            slice.LogWeight[at] = logBase + logStep + (l == 0 || l == options.BNodes - 1 ? endWeight : 0)
                 + model.MagnitudeLogLikelihood(b) + model.LogPriorA(a) + model.LogPriorB(b);
-            kappas[at] = kappa;
-            bs[at] = b;
-            ps[at] = p;
-            gammas[at] = gamma;
-            gammaIndex[at] = index;
-            logWeights[at] = logW;
         }
     }
 
@@ -141,32 +197,4 @@ internal sealed class PosteriorGrid
     static readonly double LogHalf = -Math.Log(2);
 
     static double EndWeight(int i, int count) => i == 0 || i == count - 1 ? LogHalf : 0;
-
-    /// <summary>Exponentiates, prunes and normalises the weights (sequential sums: bit-for-bit reproducible).</summary>
-    public List<PosteriorNode> Normalise(double deltaM, double pruneBelow, out double[] gammaMarginal)
-    {
-        double max = double.NegativeInfinity;
-        foreach (double lw in logWeights) if (lw > max) max = lw;
-        double threshold = Math.Log(pruneBelow);
-        double total = 0;
-        int kept = 0;
-        var raw = new double[logWeights.Length];
-        for (int i = 0; i < raw.Length; i++)
-        {
-            double rel = logWeights[i] - max;
-            raw[i] = rel < threshold ? 0 : Math.Exp(rel);
-            total += raw[i];
-            if (raw[i] != 0) kept++;
-        }
-        gammaMarginal = new double[GammaNodes];
-        var nodes = new List<PosteriorNode>(kept);
-        for (int i = 0; i < raw.Length; i++)
-        {
-            if (raw[i] == 0) continue;
-            double w = raw[i] / total;
-            gammaMarginal[gammaIndex[i]] += w;
-            nodes.Add(new PosteriorNode(kappas[i] - bs[i] * deltaM, bs[i], ps[i], gammas[i], w));
-        }
-        return nodes;
-    }
 }

@@ -36,7 +36,8 @@ public static class RjPosterior
         var model = BuildModel(prior, data);
         OmoriFit? fit = FitIfPossible(model, options);
         var (low, high) = InitialGammaRange(model, fit, options.HalfWidthSd);
-        var range = new GammaNodes(low, (high - low) / (options.CNodes - 1), options.CNodes);
+        var grid = new PosteriorGrid(model, options, low, (high - low) / (options.CNodes - 1));
+        var range = new GammaNodes(0, options.CNodes);
 
         List<PosteriorNode> nodes = [];
         bool coverageOk = false;
@@ -44,9 +45,18 @@ public static class RjPosterior
         while (attempts < MaxAttempts && !coverageOk)
         {
             attempts++;
-            var grid = PosteriorGrid.Build(model, range.Low, range.Step, range.Count, options);
-            nodes = grid.Normalise(model.DeltaM, options.PruneBelow, out double[] marginal);
-            (coverageOk, range) = Assess(marginal, range, options);
+            nodes = grid.Nodes(range.First, range.Count, model.DeltaM, options.PruneBelow, out double[] marginal);
+            var next = Assess(marginal, grid, range, options);
+            coverageOk = next.Ok;
+            if (next.Recentre is var (newLow, newHigh))
+            {
+                grid = new PosteriorGrid(model, options, newLow, (newHigh - newLow) / (options.CNodes - 1));
+                range = new GammaNodes(0, options.CNodes);
+            }
+            else
+            {
+                range = next.Range;
+            }
         }
         var summary = Summarise(nodes);
         string message = $"{model.N} event(s) with M >= {data.Mc} in [{data.SDays}, {data.TDays}] d; " +
@@ -135,42 +145,43 @@ public static class RjPosterior
         return (mean, covariance);
     }
 
-    readonly record struct GammaNodes(double Low, double Step, int Count)
-    {
-        public double High => Low + (Count - 1) * Step;
-    }
+    /// <summary>Lattice nodes <c>First .. First + Count - 1</c> of a <see cref="PosteriorGrid"/>.</summary>
+    readonly record struct GammaNodes(int First, int Count);
+
+    readonly record struct Assessment(bool Ok, GammaNodes Range, (double Low, double High)? Recentre);
 
     /// <summary>
     /// Checks the log10 c marginal. Weight on an end node means the range is too short on that side: extend it by
-    /// half its width at the same spacing (skewed marginals need this). A posterior sd below one node spacing is
-    /// under-resolved: re-centre on its mean with the default number of nodes across +-HalfWidthSd sd.
+    /// half its width at the same spacing (skewed marginals need this; the slices already computed are kept). A
+    /// posterior sd below one node spacing is under-resolved: re-centre on its mean with the default number of
+    /// nodes across +-HalfWidthSd sd (a new lattice).
     /// </summary>
-    static (bool Ok, GammaNodes Next) Assess(double[] marginal, GammaNodes range, PosteriorOptions options)
+    static Assessment Assess(double[] marginal, PosteriorGrid grid, GammaNodes range, PosteriorOptions options)
     {
         int n = marginal.Length;
+        double step = grid.Step, low = grid.Gamma(range.First), high = grid.Gamma(range.First + range.Count - 1);
         double max = marginal.Max();
-        bool lowEdge = marginal[0] > EdgeTolerance * max && range.Low > GammaMin;
-        bool highEdge = marginal[n - 1] > EdgeTolerance * max && range.High < GammaMax;
+        bool lowEdge = marginal[0] > EdgeTolerance * max && low > GammaMin;
+        bool highEdge = marginal[n - 1] > EdgeTolerance * max && high < GammaMax;
         if (lowEdge || highEdge)
         {
             int extra = Math.Max(1, (n - 1) / 2);
-            int addLow = lowEdge ? Math.Min(extra, (int)Math.Floor((range.Low - GammaMin) / range.Step)) : 0;
-            int addHigh = highEdge ? Math.Min(extra, (int)Math.Floor((GammaMax - range.High) / range.Step)) : 0;
-            if (addLow + addHigh == 0 || n + addLow + addHigh > MaxGammaNodes * options.CNodes) return (false, range);
-            return (false, new GammaNodes(range.Low - addLow * range.Step, range.Step, n + addLow + addHigh));
+            int addLow = lowEdge ? Math.Min(extra, (int)Math.Floor((low - GammaMin) / step)) : 0;
+            int addHigh = highEdge ? Math.Min(extra, (int)Math.Floor((GammaMax - high) / step)) : 0;
+            if (addLow + addHigh == 0 || n + addLow + addHigh > MaxGammaNodes * options.CNodes) return new(false, range, null);
+            return new(false, new GammaNodes(range.First - addLow, n + addLow + addHigh), null);
         }
         double mean = 0, second = 0;
-        for (int i = 0; i < n; i++) mean += marginal[i] * (range.Low + i * range.Step);
-        for (int i = 0; i < n; i++) second += marginal[i] * Math.Pow(range.Low + i * range.Step - mean, 2);
+        for (int i = 0; i < n; i++) mean += marginal[i] * (low + i * step);
+        for (int i = 0; i < n; i++) second += marginal[i] * Math.Pow(low + i * step - mean, 2);
         double sd = Math.Sqrt(second);
-        if (sd < range.Step)
+        if (sd < step)
         {
-            double sdGuess = Math.Max(sd, range.Step / 8);
-            double low = Math.Max(GammaMin, mean - options.HalfWidthSd * sdGuess);
-            double high = Math.Min(GammaMax, mean + options.HalfWidthSd * sdGuess);
-            return (false, new GammaNodes(low, (high - low) / (options.CNodes - 1), options.CNodes));
+            double sdGuess = Math.Max(sd, step / 8);
+            return new(false, range, (Math.Max(GammaMin, mean - options.HalfWidthSd * sdGuess),
+                Math.Min(GammaMax, mean + options.HalfWidthSd * sdGuess)));
         }
-        return (true, range);
+        return new(true, range, null);
     }
 
     internal static PosteriorSummary Summarise(IReadOnlyList<PosteriorNode> nodes)
