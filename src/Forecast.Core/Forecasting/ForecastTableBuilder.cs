@@ -70,8 +70,8 @@ public static class ForecastTableBuilder
         var terms = NodeTerms.From(nodes, mainshockMagnitude, thresholds);
         var logIntegral = new double[windows.Count][];
         var windowFactor = new double[windows.Count][];
-        for (int w = 0; w < windows.Count; w++)
-            terms.LogIntegrals(windows[w], logIntegral[w] = new double[terms.Count], windowFactor[w] = new double[terms.Count]);
+        Parallel.For(0, windows.Count, w =>
+            terms.LogIntegrals(windows[w], logIntegral[w] = new double[terms.Count], windowFactor[w] = new double[terms.Count]));
 
         // Cells are independent and each goes to its own slot (window outer, threshold inner), so computing them in
         // parallel gives the same table as computing them in order; each worker reuses its own buffers.
@@ -83,7 +83,7 @@ public static class ForecastTableBuilder
                 int w = index / thresholds.Count, j = index % thresholds.Count;
                 cells[index] = Cell(terms, j, logIntegral[w], windowFactor[w], buffers, thresholds[j], windows[w]);
                 return buffers;
-            }, _ => { });
+            }, buffers => buffers.Return());
         }
         catch (AggregateException e) when (e.InnerExceptions.Count > 0)
         {
@@ -92,11 +92,19 @@ public static class ForecastTableBuilder
         return new ForecastTable(mainshockMagnitude, cells);
     }
 
+    /// <summary>Per-worker buffers, rented from the shared pool: a worker may serve a single cell, and buffers of
+    /// tens of thousands of nodes would otherwise be fresh large-object allocations, zeroed, every time.</summary>
     sealed class CellBuffers(int count)
     {
-        public readonly double[] Means = new double[count];
-        public readonly double[] LogMeans = new double[count];
+        public readonly double[] Means = System.Buffers.ArrayPool<double>.Shared.Rent(count);
+        public readonly double[] LogMeans = System.Buffers.ArrayPool<double>.Shared.Rent(count);
         public readonly PoissonMixture.Scratch Mixture = new();
+
+        public void Return()
+        {
+            System.Buffers.ArrayPool<double>.Shared.Return(Means);
+            System.Buffers.ArrayPool<double>.Shared.Return(LogMeans);
+        }
     }
 
     /// <summary>
@@ -138,12 +146,12 @@ public static class ForecastTableBuilder
             }
             var deltaM = new double[thresholds.Count];
             var factor = new double[thresholds.Count][];
-            for (int j = 0; j < thresholds.Count; j++)
+            Parallel.For(0, thresholds.Count, j =>
             {
                 deltaM[j] = mainshockMagnitude - thresholds[j];
                 var f = factor[j] = new double[count];
                 for (int i = 0; i < count; i++) f[i] = Math.Exp(Ln10 * b[i] * deltaM[j]);
-            }
+            });
             return new NodeTerms
             {
                 Count = count, A = a, B = b, P = p, Log10C = gamma, Weight = weight, TotalWeight = total,
@@ -192,8 +200,9 @@ public static class ForecastTableBuilder
             if (!(n > 0 && n < double.PositiveInfinity)) n = Math.Exp(logN);
             means[i] = n;
             logMeans[i] = logN;
-            lo = Math.Min(lo, logN);
-            hi = Math.Max(hi, logN);
+            // Plain comparisons: logN is never NaN here, and Math.Min/Max pay for NaN handling on every node.
+            if (logN < lo) lo = logN;
+            if (logN > hi) hi = logN;
             expected += weights[i] * n;
             // exp(-40) is below half an ulp of 1, so 1 - exp(-N) is exactly 1 there.
             probability += weights[i] * (n > 40 ? 1 : -Precise.Expm1(-n));

@@ -213,19 +213,25 @@ public sealed class PoissonMixture
         long mode = (long)Math.Floor(mean);
         if (mean == 0) { pmf[0] += weight; return; }
         double anchor = Math.Exp(mode * Math.Log(mean) - mean - SpecialFunctions.GammaLn(mode + 1));
-        double value = anchor;
+        // Multiplications by tabulated reciprocals: the recursion is a chain, and a division in it would set its pace.
+        double value = anchor, inverseMean = 1 / mean;
+        var reciprocal = Reciprocals;
         for (long k = mode; k <= high; k++)
         {
             pmf[k] += weight * value;
-            value *= mean / (k + 1);
+            value *= mean * (k + 1 < reciprocal.Length ? reciprocal[k + 1] : 1.0 / (k + 1));
         }
         value = anchor;
         for (long k = mode - 1; k >= low; k--)
         {
-            value *= (k + 1) / mean;
+            value *= (k + 1) * inverseMean;
             pmf[k] += weight * value;
         }
     }
+
+    /// <summary><c>1 / k</c> for every k an exact component's window reaches.</summary>
+    static readonly double[] Reciprocals = Enumerable.Range(0, (int)Window(ExactLimit).High + 2)
+        .Select(k => k == 0 ? 0 : 1.0 / k).ToArray();
 
     static long UpperK(double[] means)
     {

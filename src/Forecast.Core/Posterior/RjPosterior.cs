@@ -39,18 +39,20 @@ public static class RjPosterior
         var grid = new PosteriorGrid(model, options, low, (high - low) / (options.CNodes - 1));
         var range = new GammaNodes(0, options.CNodes);
 
-        List<PosteriorNode> nodes = [];
         bool coverageOk = false;
         int attempts = 0;
+        var assessed = range;
         while (attempts < MaxAttempts && !coverageOk)
         {
             attempts++;
-            nodes = grid.Nodes(range.First, range.Count, model.DeltaM, options.PruneBelow, out double[] marginal);
-            var next = Assess(marginal, grid, range, options);
+            assessed = range;
+            var next = Assess(grid.Marginal(range.First, range.Count), grid, range, options);
             coverageOk = next.Ok;
-            if (next.Recentre is var (newLow, newHigh))
+            if (coverageOk) break;
+            if (attempts == MaxAttempts || (next.Recentre is null && next.Range == range)) break;
+            if (next.Recentre is { } recentre)
             {
-                grid = new PosteriorGrid(model, options, newLow, (newHigh - newLow) / (options.CNodes - 1));
+                grid = new PosteriorGrid(model, options, recentre.Low, (recentre.High - recentre.Low) / (options.CNodes - 1));
                 range = new GammaNodes(0, options.CNodes);
             }
             else
@@ -58,6 +60,7 @@ public static class RjPosterior
                 range = next.Range;
             }
         }
+        var nodes = grid.Nodes(assessed.First, assessed.Count, model.DeltaM, options.PruneBelow);
         var summary = Summarise(nodes);
         string message = $"{model.N} event(s) with M >= {data.Mc} in [{data.SDays}, {data.TDays}] d; " +
             $"{nodes.Count} grid nodes after {attempts} pass(es)" +
