@@ -126,7 +126,8 @@ public sealed class EventBatch : IAsyncDisposable
             await _tx.SaveAsync("upsert", ct);
             try
             {
-                await _conn.ExecuteAsync(new CommandDefinition(Upsert, new { keyId }, _tx, cancellationToken: ct));
+                var sql = Count <= listItemsUpTo ? Upsert + WrittenWithPositions : Upsert + WrittenCountsOnly;
+                await _conn.ExecuteAsync(new CommandDefinition(sql, new { keyId }, _tx, cancellationToken: ct));
                 break;
             }
             catch (PostgresException e) when (attempt < MaxAttempts && e.SqlState is
@@ -209,10 +210,20 @@ public sealed class EventBatch : IAsyncDisposable
                    magnitude_type, status
             from written
         )
+
+        """;
+
+    // Positions are needed only to list per-event outcomes; a large batch skips the join back to the stage.
+    const string WrittenWithPositions = """
         insert into event_written (ord, pk, version)
         select s.ord, w.id, w.version
         from event_stage s
         join written w on w.source = s.source and w.event_id = s.event_id
+        """;
+
+    const string WrittenCountsOnly = """
+        insert into event_written (ord, pk, version)
+        select null, id, version from written
         """;
 
     /// <summary>Rolls back unless committed, and returns the connection to the pool.</summary>
