@@ -31,11 +31,12 @@ public static class FdsnText
         ContributorId = 8, MagType = 9, Magnitude = 10, EventType = 13;
 
     /// <summary>Reads UTF-8 (or a BOM-marked encoding) text; lines longer than
-    /// <see cref="CatalogReadOptions.MaxTokenBytes"/> are refused before they are buffered.</summary>
+    /// <see cref="CatalogReadOptions.MaxTokenBytes"/> are refused before they are buffered, and bytes that are not
+    /// UTF-8 (RFC 3629) refuse the document rather than turning into U+FFFD in an id.</summary>
     public static IEnumerable<EventItem> ReadEvents(Stream stream, CatalogReadOptions options)
     {
         using var text = new StreamReader(new TokenLimitStream(stream, (byte)'\n', (byte)'\n', options.MaxTokenBytes),
-            Encoding.UTF8, detectEncodingFromByteOrderMarks: true, bufferSize: 64 * 1024, leaveOpen: true);
+            StrictUtf8, detectEncodingFromByteOrderMarks: true, bufferSize: 64 * 1024, leaveOpen: true);
         foreach (var item in ReadEvents(text, options)) yield return item;
     }
 
@@ -44,7 +45,7 @@ public static class FdsnText
         long lineNumber = 0, characters = 0;
         var columns = 0;
         var index = 0;
-        while (reader.ReadLine() is { } line)
+        while (ReadLine(reader, lineNumber) is { } line)
         {
             lineNumber++;
             characters += line.Length + 1;
@@ -64,6 +65,22 @@ public static class FdsnText
         }
         if (columns == 0)
             throw new CatalogFormatException("The document is empty: FDSN text starts with a header line " + HeaderLine);
+    }
+
+    static readonly UTF8Encoding StrictUtf8 = new(encoderShouldEmitUTF8Identifier: false, throwOnInvalidBytes: true);
+
+    static string? ReadLine(TextReader reader, long linesRead)
+    {
+        try
+        {
+            return reader.ReadLine();
+        }
+        catch (DecoderFallbackException)
+        {
+            // The reader decodes a buffer ahead of the line it returns, so the place is known only roughly.
+            throw new CatalogFormatException(FormattableString.Invariant(
+                $"The text is not valid UTF-8 (RFC 3629) at or after line {linesRead + 1}"), linesRead + 1);
+        }
     }
 
     static string HeaderLine => "#" + string.Join('|', Columns);

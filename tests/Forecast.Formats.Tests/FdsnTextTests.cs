@@ -19,6 +19,19 @@ public class FdsnTextTests
     }
 
     [Fact]
+    public void BytesThatAreNotUtf8RefuseTheDocumentInsteadOfBecomingReplacementCharacters()
+    {
+        // RFC 3629, 3: 0xC3 must be followed by a continuation byte (0x80-0xBF); 0x28 is not one.
+        var bytes = System.Text.Encoding.ASCII.GetBytes(FdsnHeader + "\n" + Line1 + "\nzz0").Concat(new byte[] { 0xC3, 0x28 })
+            .Concat(System.Text.Encoding.ASCII.GetBytes("2" + Line1[6..] + "\n")).ToArray();
+        var r = CatalogReader.ReadAll(FdsnText.ReadEvents(new MemoryStream(bytes), Options()));
+        Assert.False(r.IsValid);
+        Assert.NotNull(r.Fatal);
+        Assert.Contains("not valid UTF-8", r.Fatal!.Message, StringComparison.Ordinal);
+        Assert.DoesNotContain(r.Events, e => e.Id.Contains('\uFFFD'));
+    }
+
+    [Fact]
     public void ToleratesAFourteenthEventTypeColumnAndReadsNotExistingAsDeleted()
     {
         var r = ReadFdsn(FdsnHeader + "|EventType\n" + Line1 + "|earthquake\n" +

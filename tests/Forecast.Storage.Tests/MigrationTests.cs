@@ -33,4 +33,22 @@ public class MigrationTests(TestDatabase db) : IClassFixture<TestDatabase>
         var e = await Assert.ThrowsAsync<PostgresException>(() => update.ExecuteNonQueryAsync());
         Assert.Contains("append-only", e.MessageText);
     }
+
+    [Fact]
+    public async Task KeysCanBeRevokedButNeverDeletedSoEveryRevisionNamesAKeyThatExists()
+    {
+        await using var conn = new NpgsqlConnection(db.ConnectionString);
+        await conn.OpenAsync();
+        await using var insert = new NpgsqlCommand("""
+            insert into api_key (name, role, prefix, secret_hash) values ('gone', 'feeder', 'p', '\x00') returning id
+            """, conn);
+        var id = (long)(await insert.ExecuteScalarAsync())!;
+        await using var delete = new NpgsqlCommand("delete from api_key where id = @id", conn);
+        delete.Parameters.AddWithValue("id", id);
+        var e = await Assert.ThrowsAsync<PostgresException>(() => delete.ExecuteNonQueryAsync());
+        Assert.Equal(PostgresErrorCodes.RestrictViolation, e.SqlState);
+        await using var count = new NpgsqlCommand("select count(*) from api_key where id = @id", conn);
+        count.Parameters.AddWithValue("id", id);
+        Assert.Equal(1L, (long)(await count.ExecuteScalarAsync())!);
+    }
 }
