@@ -1,4 +1,5 @@
 using Forecast.Api.Auth;
+using Forecast.Api.Dashboard;
 using Forecast.Api.Events;
 using Forecast.Api.Forecasts;
 using Forecast.Api.Infrastructure;
@@ -25,6 +26,8 @@ builder.WebHost.ConfigureKestrel((context, kestrel) =>
         $"{IngestOptions.Section}:{nameof(IngestOptions.MaxBodyBytes)}", new IngestOptions().MaxBodyBytes));
 
 builder.Services.AddProblemDetails();
+builder.Services.AddBadRequestProblems();
+builder.Services.AddExceptionHandler<DatabaseOutageHandler>();
 builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddNpgsqlDataSource(connectionString);
 builder.Services.AddSingleton<EventStore>();
@@ -32,6 +35,8 @@ builder.Services.AddSingleton<ApiKeyStore>();
 builder.Services.AddSequencesAndForecasts();
 builder.Services.AddPublicApi(builder.Configuration);
 builder.Services.AddMemoryCache();
+builder.Services.AddSingleton<RenderedBodies>();
+builder.Services.AddSingleton<CoalescedReads>();
 builder.Services.AddSingleton<ApiKeyCache>();
 builder.Services.AddAuthentication(Policies.Scheme)
     .AddScheme<AuthenticationSchemeOptions, ApiKeyHandler>(Policies.Scheme, null);
@@ -39,6 +44,10 @@ Policies.Add(builder.Services.AddAuthorizationBuilder());
 builder.Services.AddHealthChecks().AddNpgSql(tags: ["ready"], timeout: TimeSpan.FromSeconds(3));
 builder.Services.ConfigureHttpJsonOptions(o =>
     o.SerializerOptions.Converters.Add(new System.Text.Json.Serialization.JsonStringEnumConverter()));
+// A request body naming a field the endpoint does not know is refused (400), as the event ingest refuses one.
+builder.Services.ConfigureHttpJsonOptions(o => o.SerializerOptions.UnmappedMemberHandling =
+    System.Text.Json.Serialization.JsonUnmappedMemberHandling.Disallow);
+builder.Services.AddRequestLimits();
 builder.Services.AddEndpointsApiExplorer();
 builder.Services.AddSwaggerGen(o =>
 {
@@ -61,12 +70,14 @@ var app = builder.Build();
 app.UseExceptionHandler();
 app.UseStatusCodePages();
 app.UseRequestId();
+app.UseDashboard();
 app.UseSwagger();
 app.UseSwaggerUI(o => o.RoutePrefix = "swagger");
 app.UseCors();
 app.UseRateLimiter();
 app.UseAuthentication();
 app.UseAuthorization();
+app.UseRequestTimeouts();
 
 app.MapOperations();
 app.MapEvents();
@@ -74,6 +85,7 @@ app.MapKeys();
 app.MapSequences();
 app.MapForecasts();
 app.MapPublic();
+app.MapDashboard();
 
 await app.PrepareDatabaseAsync();
 await app.RunAsync();

@@ -22,6 +22,14 @@ public class ApiServer : IAsyncLifetime
     /// <summary>Settings a derived fixture adds or overrides (configuration keys as in appsettings.json).</summary>
     protected virtual IReadOnlyDictionary<string, string> Settings => new Dictionary<string, string>();
 
+    /// <summary>Anything else a derived fixture changes on the host (for example a logger provider).</summary>
+    protected virtual void ConfigureHost(IWebHostBuilder builder)
+    {
+    }
+
+    /// <summary>The running host's services (for example its EndpointDataSource).</summary>
+    public IServiceProvider Services => _factory?.Services ?? throw new InvalidOperationException("Not started.");
+
     public async Task InitializeAsync()
     {
         await _db.InitializeAsync();
@@ -32,6 +40,7 @@ public class ApiServer : IAsyncLifetime
             b.UseSetting("Logging:LogLevel:Default", "Warning");
             foreach (var (k, v) in Settings) b.UseSetting(k, v);
             b.UseEnvironment("Production");
+            ConfigureHost(b);
         });
         _factory.UseKestrel(k => k.Listen(System.Net.IPAddress.Loopback, 0));
         _factory.StartServer();

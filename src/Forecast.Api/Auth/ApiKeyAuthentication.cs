@@ -90,15 +90,21 @@ public sealed class ApiKeyHandler(
     static readonly System.Buffers.SearchValues<char> Base64UrlChars = System.Buffers.SearchValues.Create(
         "ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789-_");
 
+    // RFC 6750, 3 and 3.1: a bare challenge when no key was sent, error="invalid_token" for a malformed, unknown
+    // or revoked one, error="insufficient_scope" (with 403) for a valid key whose role is not enough. The problem
+    // body says why; the header carries no text of the request.
     protected override Task HandleChallengeAsync(AuthenticationProperties properties)
     {
-        var why = Context.Items[FailureItem] as string ?? "Send 'Authorization: Bearer <key>'.";
-        Response.Headers.WWWAuthenticate = "Bearer";
-        return Write(Problems.Unauthorized(why));
+        var why = Context.Items[FailureItem] as string;
+        Response.Headers.WWWAuthenticate = why is null ? "Bearer" : "Bearer error=\"invalid_token\"";
+        return Write(Problems.Unauthorized(why ?? "Send 'Authorization: Bearer <key>'."));
     }
 
-    protected override Task HandleForbiddenAsync(AuthenticationProperties properties) =>
-        Write(Problems.Forbidden("The key's role does not allow this request."));
+    protected override Task HandleForbiddenAsync(AuthenticationProperties properties)
+    {
+        Response.Headers.WWWAuthenticate = "Bearer error=\"insufficient_scope\"";
+        return Write(Problems.Forbidden("The key's role does not allow this request."));
+    }
 
     Task Write(Microsoft.AspNetCore.Http.HttpResults.ProblemHttpResult problem) => problem.ExecuteAsync(Context);
 }

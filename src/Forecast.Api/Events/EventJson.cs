@@ -47,6 +47,21 @@ public static class EventJson
             Add(errors, at.TrimEnd('.'), "must be an event object");
             return null;
         }
+        try
+        {
+            return ReadFields(item, at, nowUtc, errors);
+        }
+        catch (InvalidOperationException e) when (e.InnerException is System.Text.DecoderFallbackException)
+        {
+            // JsonDocument checks the structure but leaves string contents as bytes; invalid UTF-8 (RFC 3629, 3)
+            // shows only when a name or value is read as text.
+            Add(errors, at.TrimEnd('.'), "holds text that is not valid UTF-8 (RFC 8259, 8.1; RFC 3629, 3)");
+            return null;
+        }
+    }
+
+    static EventInput? ReadFields(JsonElement item, string at, DateTime nowUtc, Dictionary<string, string[]> errors)
+    {
         var before = errors.Count;
         var seen = new HashSet<string>();
         foreach (var property in item.EnumerateObject())

@@ -44,31 +44,35 @@ public static class ForecastEndpoints
         return TypedResults.Ok<IReadOnlyList<ForecastSummary>>(rows.Select(ForecastSummary.From).ToList());
     }
 
-    static async Task<Results<Ok<ForecastView>, StatusCodeHttpResult, ProblemHttpResult>> Latest(
-        long id, HttpContext http, SequenceStore sequences, ForecastStore store, CancellationToken ct)
+    /// <summary>One small query for which forecast is the latest, shared by concurrent pollers
+    /// (<see cref="CoalescedReads"/>); the body is rendered once per forecast and state
+    /// (<see cref="ForecastViews.RenderAsync"/>), so frequent polling stays cheap.</summary>
+    static async Task<Results<JsonBody<ForecastView>, StatusCodeHttpResult, ProblemHttpResult>> Latest(
+        long id, HttpContext http, SequenceStore sequences, ForecastStore store, RenderedBodies bodies, CoalescedReads reads,
+        CancellationToken ct)
     {
-        var f = await store.LatestAsync(id, releasedOnly: false, ct);
-        if (f is null)
+        var v = await reads.LatestVersionAsync(id, ct);
+        if (v is null)
         {
             return await sequences.FindAsync(id, ct) is null
                 ? Problems.NotFound("sequence", id)
                 : Problems.NotFound("forecast of sequence", id);
         }
         http.Response.Headers.CacheControl = "private, no-cache";
-        return ForecastViews.NotModified(http, f, "a")
+        return ForecastViews.NotModified(http, v, "a")
             ? TypedResults.StatusCode(StatusCodes.Status304NotModified)
-            : TypedResults.Ok(ForecastView.From(f));
+            : await ForecastViews.RenderAsync(v, store, bodies, ct);
     }
 
-    static async Task<Results<Ok<ForecastView>, StatusCodeHttpResult, ProblemHttpResult>> Get(
-        long id, int number, HttpContext http, ForecastStore store, CancellationToken ct)
+    static async Task<Results<JsonBody<ForecastView>, StatusCodeHttpResult, ProblemHttpResult>> Get(
+        long id, int number, HttpContext http, ForecastStore store, RenderedBodies bodies, CancellationToken ct)
     {
-        var f = await store.FindAsync(id, number, ct);
-        if (f is null) return Problems.NotFound("forecast", $"{id}/{number}");
+        var v = await store.VersionAsync(id, number, ct);
+        if (v is null) return Problems.NotFound("forecast", $"{id}/{number}");
         http.Response.Headers.CacheControl = "private, no-cache";
-        return ForecastViews.NotModified(http, f, "a")
+        return ForecastViews.NotModified(http, v, "a")
             ? TypedResults.StatusCode(StatusCodes.Status304NotModified)
-            : TypedResults.Ok(ForecastView.From(f));
+            : await ForecastViews.RenderAsync(v, store, bodies, ct);
     }
 
     static async Task<Results<Created<ForecastView>, ValidationProblem, ProblemHttpResult>> Compute(
@@ -121,11 +125,12 @@ public static class ForecastEndpoints
         long id, int number, ReleaseRequest? body, HttpContext http, ForecastStore store, CancellationToken ct)
     {
         var text = body?.AdvisoryText;
-        if (text is not null && (string.IsNullOrWhiteSpace(text) || text.Length > MaxAdvisoryChars))
+        if (text is not null && (string.IsNullOrWhiteSpace(text) || text.Length > MaxAdvisoryChars || HasControl(text)))
         {
             return Problems.Invalid(new Dictionary<string, string[]>
             {
-                ["advisoryText"] = [$"must be 1 to {MaxAdvisoryChars} characters, not only spaces"],
+                ["advisoryText"] = [$"must be 1 to {MaxAdvisoryChars} characters, not only spaces, with no control " +
+                    "characters but line breaks and tabs"],
             }, "The forecast was not released.");
         }
         var current = await store.FindAsync(id, number, ct);
@@ -148,13 +153,18 @@ public static class ForecastEndpoints
         };
     }
 
+    // PostgreSQL text cannot hold NUL, and other control characters have no place in published wording.
+    static bool HasControl(string text) => text.Any(c => char.IsControl(c) && c is not ('\n' or '\r' or '\t'));
+
     static async Task<Results<Ok<ForecastView>, ValidationProblem, ProblemHttpResult>> Withdraw(
         long id, int number, WithdrawRequest? body, HttpContext http, ForecastStore store, CancellationToken ct)
     {
-        if (body?.Reason is { Length: > 2000 })
+        if (body?.Reason is { } reason && (reason.Length > 2000 || HasControl(reason)))
         {
-            return Problems.Invalid(new Dictionary<string, string[]> { ["reason"] = ["must be at most 2000 characters"] },
-                "The forecast was not withdrawn.");
+            return Problems.Invalid(new Dictionary<string, string[]>
+            {
+                ["reason"] = ["must be at most 2000 characters, with no control characters but line breaks and tabs"],
+            }, "The forecast was not withdrawn.");
         }
         var outcome = await store.WithdrawAsync(id, number, body?.Reason, Policies.KeyId(http.User), ct);
         return outcome switch

@@ -71,18 +71,33 @@ public static class PublicEndpoints
         return TypedResults.Ok<IReadOnlyList<PublicSequence>>(list);
     }
 
-    static async Task<Results<Ok<PublicForecast>, StatusCodeHttpResult, ProblemHttpResult>> Current(
-        long id, HttpContext http, SequenceStore sequences, ForecastStore forecasts, IOptions<PublicApiOptions> o,
-        CancellationToken ct)
+    /// <summary>Two small queries (the sequence, which forecast is released), shared by concurrent pollers; the body
+    /// is rendered once per forecast and the sequence fields it shows.</summary>
+    static async Task<Results<JsonBody<PublicForecast>, StatusCodeHttpResult, ProblemHttpResult>> Current(
+        long id, HttpContext http, ForecastStore forecasts, RenderedBodies bodies, CoalescedReads reads,
+        IOptions<PublicApiOptions> o, CancellationToken ct)
     {
-        var s = await sequences.FindAsync(id, ct);
-        var f = s is null ? null : await forecasts.LatestAsync(id, releasedOnly: true, ct);
-        if (s is null || f is null) return Problems.NotFound("released forecast of sequence", id);
+        var (s, v) = await reads.ReleasedAsync(id, ct);
+        if (s is null || v is null) return Problems.NotFound("released forecast of sequence", id);
         Cache(http, o.Value);
-        return ForecastViews.NotModified(http, f, "p")
-            ? TypedResults.StatusCode(StatusCodes.Status304NotModified)
-            : TypedResults.Ok(View(s, f));
+        if (ForecastViews.NotModified(http, v, "p")) return TypedResults.StatusCode(StatusCodes.Status304NotModified);
+        if (bodies.Get(CurrentKey(s, v.Number)) is { } cached) return new JsonBody<PublicForecast>(cached.Body);
+
+        var f = await forecasts.FindAsync(id, v.Number, ct);
+        if (f?.State != "released")
+        {
+            // Superseded or withdrawn since the first read: answer from one consistent read, uncached.
+            f = await forecasts.LatestAsync(id, releasedOnly: true, ct);
+            if (f is null) return Problems.NotFound("released forecast of sequence", id);
+            ForecastViews.NotModified(http, f, "p");
+            return new JsonBody<PublicForecast>(bodies.Serialize(View(s, f)));
+        }
+        return new JsonBody<PublicForecast>(bodies.Set(CurrentKey(s, f.Number), new Rendered(bodies.Serialize(View(s, f)))).Body);
     }
+
+    /// <summary>What the public forecast shows: the released forecast (immutable) and the sequence's title fields.</summary>
+    static string CurrentKey(SequenceRow s, int number) => string.Create(CultureInfo.InvariantCulture,
+        $"p:{s.Id}:{number}:{s.Exercise}:{s.MainshockMagnitude:R}:{s.MainshockTime.Ticks}:{s.Name}");
 
     static async Task<Results<Ok<IReadOnlyList<PublicForecast>>, ProblemHttpResult>> History(
         long id, HttpContext http, SequenceStore sequences, ForecastStore forecasts, IOptions<PublicApiOptions> o,
@@ -117,14 +132,30 @@ public static class PublicEndpoints
 
     /// <summary>The GeoJSON feed; what it lists and the headline cell are stated in <see cref="FeedRule"/>.</summary>
     static async Task<Results<FileContentHttpResult, StatusCodeHttpResult>> Feed(
-        HttpContext http, SequenceStore sequences, ForecastStore forecasts, IOptions<PublicApiOptions> o,
-        CancellationToken ct)
+        HttpContext http, ForecastStore forecasts, RenderedBodies bodies, CoalescedReads reads,
+        IOptions<PublicApiOptions> o, CancellationToken ct)
     {
         var root = BaseUrl(http, o.Value);
+        // Two small queries (shared by concurrent pollers) decide whether the rendered feed is still current; only a
+        // change renders it again.
+        var (active, released) = await reads.FeedAsync(ct);
+        var rendered = bodies.Get(FeedKey(root, active, released)) ?? await RenderFeedAsync(root, active, forecasts, bodies, ct);
+        Cache(http, o.Value);
+        http.Response.Headers.ETag = rendered.ETag;
+        return Matches(http, rendered.ETag!)
+            ? TypedResults.StatusCode(StatusCodes.Status304NotModified)
+            : TypedResults.File(rendered.Body, GeoJsonType);
+    }
+
+    static async Task<Rendered> RenderFeedAsync(string root, IReadOnlyList<SequenceRow> active, ForecastStore forecasts,
+        RenderedBodies bodies, CancellationToken ct)
+    {
         var features = new List<ForecastFeature>();
-        foreach (var s in await sequences.ListAsync("active", 500, ct))
+        var shown = new Dictionary<long, int>();
+        foreach (var s in active)
         {
             if (await forecasts.LatestAsync(s.Id, releasedOnly: true, ct) is not { } f) continue;
+            shown[s.Id] = f.Number;
             var result = Stored(f);
             if (Headline(result.Table) is not { } cell) continue;
             features.Add(new ForecastFeature(
@@ -137,13 +168,24 @@ public static class PublicEndpoints
         using var buffer = new MemoryStream();
         ForecastGeoJson.WriteFeatureCollection(buffer, features);
         var body = buffer.ToArray();
-        Cache(http, o.Value);
         // The feed has no single record to version, so its validator is a digest of the bytes.
         var etag = $"\"g-{Convert.ToHexStringLower(SHA256.HashData(body))[..32]}\"";
-        http.Response.Headers.ETag = etag;
-        return Matches(http, etag)
-            ? TypedResults.StatusCode(StatusCodes.Status304NotModified)
-            : TypedResults.File(body, GeoJsonType);
+        // Keyed by the forecasts actually rendered, so a release that raced the first read is not cached as older.
+        return bodies.Set(FeedKey(root, active, shown), new Rendered(body, etag));
+    }
+
+    /// <summary>Everything the feed shows: per active sequence with a released forecast, the forecast (immutable)
+    /// and the sequence fields in its features; and the base of its links.</summary>
+    static string FeedKey(string root, IReadOnlyList<SequenceRow> active, IReadOnlyDictionary<long, int> released)
+    {
+        var key = new System.Text.StringBuilder("g:").Append(root);
+        foreach (var s in active)
+        {
+            if (!released.TryGetValue(s.Id, out var number)) continue;
+            key.Append(CultureInfo.InvariantCulture,
+                $"|{s.Id}:{number}:{s.CentreLatitude:R}:{s.CentreLongitude:R}:{s.ZoneRadiusKm:R}:{s.MainshockMagnitude:R}:{s.Name}");
+        }
+        return key.ToString();
     }
 
     /// <summary>The CAP 1.2 alert of forecast <paramref name="number"/>.</summary>

@@ -34,8 +34,11 @@ public static class SequenceEndpoints
         DeclareSequence body, HttpContext http, SequenceStore store, CancellationToken ct)
     {
         var errors = new Dictionary<string, string[]>();
-        if (string.IsNullOrWhiteSpace(body.Mainshock?.Source)) errors["mainshock.source"] = ["is required"];
-        if (string.IsNullOrWhiteSpace(body.Mainshock?.Id)) errors["mainshock.id"] = ["is required"];
+        // The event rules of ingest: no stored event can break them, and text PostgreSQL refuses (a NUL) never
+        // reaches the lookup.
+        if (Forecast.Core.Events.EventRules.CheckSource(body.Mainshock?.Source) is { } badSource)
+            errors["mainshock.source"] = [badSource];
+        if (Forecast.Core.Events.EventRules.CheckId(body.Mainshock?.Id) is { } badId) errors["mainshock.id"] = [badId];
         var choices = Check(((ISequenceFields)body).ToChoices(), errors, requireBackgroundPair: true);
         if (errors.Count > 0) return Problems.Invalid(errors, "The sequence was not declared.");
 

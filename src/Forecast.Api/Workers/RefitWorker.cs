@@ -21,6 +21,10 @@ public sealed class RefitWorkerOptions
 
     /// <summary>How often the schedule (RefitSchedule: hourly to day 3, 6-hourly to day 30, then daily) is checked.</summary>
     [Range(typeof(TimeSpan), "00:00:01", "01:00:00")] public TimeSpan ScheduleCheck { get; init; } = TimeSpan.FromMinutes(1);
+
+    /// <summary>Longest pause after failed rounds (the database away): the pause doubles from the poll interval up
+    /// to this, and a good round resets it.</summary>
+    [Range(typeof(TimeSpan), "00:00:00.010", "00:10:00")] public TimeSpan MaxBackoff { get; init; } = TimeSpan.FromSeconds(5);
 }
 
 /// <summary>Keeps forecasts current: opens sequences for big new events, runs queued refits, queues scheduled ones.</summary>
@@ -40,8 +44,10 @@ public sealed class RefitWorker(
             return;
         }
         var nextSchedule = DateTime.MinValue;
+        var failures = 0;
         while (!stoppingToken.IsCancellationRequested)
         {
+            var pause = o.PollInterval;
             try
             {
                 var now = clock.GetUtcNow().UtcDateTime;
@@ -61,6 +67,8 @@ public sealed class RefitWorker(
                     else if (round.Forecast is { } f)
                         log.LogInformation("Sequence {SequenceId}: forecast {Number} ({Reason})", f.SequenceId, f.Number, f.Reason);
                 } while (round.DidWork && !stoppingToken.IsCancellationRequested);
+                if (failures > 0) log.LogInformation("Refit worker recovered after {Failures} failed rounds", failures);
+                failures = 0;
             }
             catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
             {
@@ -70,17 +78,31 @@ public sealed class RefitWorker(
             {
                 // Typically the database is away or restarting. The worker must outlive it (an exception escaping a
                 // BackgroundService stops the host); the queue keeps the work for the next round.
-                log.LogWarning(e, "Refit worker round failed; retrying after the poll interval");
+                failures++;
+                pause = Backoff(o, failures);
+                if (DatabaseFailure.IsUnavailable(e))
+                    log.LogWarning("Refit worker round {Failures} failed, database unavailable ({Error}); retrying in {PauseMs} ms",
+                        failures, e.Message, pause.TotalMilliseconds);
+                else
+                    log.LogWarning(e, "Refit worker round {Failures} failed; retrying in {PauseMs} ms", failures, pause.TotalMilliseconds);
             }
             try
             {
-                await Task.Delay(o.PollInterval, clock, stoppingToken);
+                await Task.Delay(pause, clock, stoppingToken);
             }
             catch (OperationCanceledException)
             {
                 return;
             }
         }
+    }
+
+    /// <summary>The poll interval doubled per consecutive failure, at most <see cref="RefitWorkerOptions.MaxBackoff"/>.</summary>
+    public static TimeSpan Backoff(RefitWorkerOptions o, int failures)
+    {
+        var factor = Math.Pow(2, Math.Min(failures, 20));
+        var ms = Math.Min(o.PollInterval.TotalMilliseconds * factor, o.MaxBackoff.TotalMilliseconds);
+        return TimeSpan.FromMilliseconds(Math.Max(ms, o.PollInterval.TotalMilliseconds));
     }
 
     async Task RetryUntilDone(Func<Task> action, CancellationToken ct)
@@ -92,9 +114,9 @@ public sealed class RefitWorker(
                 await action();
                 return;
             }
-            catch (Npgsql.NpgsqlException e)
+            catch (Exception e) when (!ct.IsCancellationRequested)
             {
-                log.LogWarning(e, "Could not write the sequence settings; retrying");
+                log.LogWarning("Could not write the sequence settings ({Error}); retrying in 2 s", e.Message);
                 await Task.Delay(TimeSpan.FromSeconds(2), clock, ct);
             }
         }

@@ -61,6 +61,39 @@ public sealed class ForecastStore(NpgsqlDataSource db)
             """, new { sequenceId, releasedOnly }, cancellationToken: ct));
     }
 
+    /// <summary>Which forecast is the latest (in any state, or only released) and in what state, without reading
+    /// its result: what a cached rendering of it is keyed by.</summary>
+    public async Task<ForecastVersion?> LatestVersionAsync(long sequenceId, bool releasedOnly, CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        return await conn.QuerySingleOrDefaultAsync<ForecastVersion>(new CommandDefinition($"""
+            select {VersionColumns} from forecast
+            where sequence_id = @sequenceId and (not @releasedOnly or state = 'released')
+            order by number desc limit 1
+            """, new { sequenceId, releasedOnly }, cancellationToken: ct));
+    }
+
+    /// <summary>The state of forecast <paramref name="number"/>, without its result.</summary>
+    public async Task<ForecastVersion?> VersionAsync(long sequenceId, int number, CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        return await conn.QuerySingleOrDefaultAsync<ForecastVersion>(new CommandDefinition(
+            $"select {VersionColumns} from forecast where sequence_id = @sequenceId and number = @number",
+            new { sequenceId, number }, cancellationToken: ct));
+    }
+
+    /// <summary>The released forecast of each of <paramref name="sequenceIds"/> that has one, without results.</summary>
+    public async Task<IReadOnlyList<ForecastVersion>> LatestReleasedVersionsAsync(long[] sequenceIds, CancellationToken ct)
+    {
+        await using var conn = await db.OpenConnectionAsync(ct);
+        var rows = await conn.QueryAsync<ForecastVersion>(new CommandDefinition($"""
+            select distinct on (sequence_id) {VersionColumns} from forecast
+            where sequence_id = any(@sequenceIds) and state = 'released'
+            order by sequence_id, number desc
+            """, new { sequenceIds }, cancellationToken: ct));
+        return rows.AsList();
+    }
+
     /// <summary>Forecasts newest first, optionally only those in <paramref name="states"/>.</summary>
     public async Task<IReadOnlyList<ForecastRecord>> ListAsync(long sequenceId, string[]? states, int limit, CancellationToken ct)
     {
@@ -115,10 +148,34 @@ public sealed class ForecastStore(NpgsqlDataSource db)
         return await FindAsync(sequenceId, number, ct) is null ? TransitionOutcome.NotFound : TransitionOutcome.WrongState;
     }
 
+    const string VersionColumns = "sequence_id, number, state, created_at, released_at, withdrawn_at";
+
     const string Columns = """
         id, sequence_id, number, state, reason, exercise, issue_time, created_at, engine_version, parameter_set,
         mainshock_pk, mainshock_magnitude, mc, fit_start_days, event_count, last_event_time, catalog_hash,
         result::text as result, options::text as options, advisory_text, created_by, released_at, released_by,
         released_advisory_text, withdrawn_at, withdrawn_by, withdraw_reason
         """;
+}
+
+/// <summary>A forecast's identity and state without its content. The content of a forecast never changes; its state
+/// (and with it the release or withdrawal time and the released advisory) does, so (sequence, number, state)
+/// identifies a representation.</summary>
+public sealed class ForecastVersion
+{
+    public long SequenceId { get; init; }
+    public int Number { get; init; }
+    public string State { get; init; } = "";
+    public DateTime CreatedAt { get; init; }
+    public DateTime? ReleasedAt { get; init; }
+    public DateTime? WithdrawnAt { get; init; }
+
+    /// <summary>As <see cref="ForecastRecord.LastModified"/>.</summary>
+    public DateTime LastModified => new[] { CreatedAt, ReleasedAt ?? DateTime.MinValue, WithdrawnAt ?? DateTime.MinValue }.Max();
+
+    public static ForecastVersion Of(ForecastRecord f) => new()
+    {
+        SequenceId = f.SequenceId, Number = f.Number, State = f.State, CreatedAt = f.CreatedAt, ReleasedAt = f.ReleasedAt,
+        WithdrawnAt = f.WithdrawnAt,
+    };
 }

@@ -1,0 +1,71 @@
+namespace Forecast.Api.Infrastructure;
+
+/// <summary>Runs one read for many concurrent callers asking the same question, without ever answering from a read
+/// that began before the caller asked.</summary>
+/// <remarks>
+/// While a read for a key is running, callers that arrive join the next read, which starts when the running one
+/// ends; so every answer comes from a read started after its caller arrived (a PostgreSQL statement sees the
+/// data committed before it starts), the same guarantee as a read of one's own. With many clients polling one
+/// sequence this turns thousands of small queries a second into at most one running query and one waiting
+/// per key; a caller waits at most about two query durations. Failures reach every caller of that read.
+/// </remarks>
+public sealed class Coalescing<TKey, TValue> where TKey : notnull
+{
+    /// <summary>A key being read: the callers waiting for the next read, and the read they brought.</summary>
+    sealed class Slot
+    {
+        public (TaskCompletionSource<TValue> Answer, Func<Task<TValue>> Read)? Next;
+    }
+
+    readonly Dictionary<TKey, Slot> _slots = [];
+
+    /// <param name="read">The read; it gets no caller's cancellation token, because several callers share it.</param>
+    public Task<TValue> GetAsync(TKey key, Func<Task<TValue>> read, CancellationToken ct)
+    {
+        lock (_slots)
+        {
+            if (_slots.TryGetValue(key, out var slot))
+            {
+                slot.Next ??= (NewAnswer(), read);
+                return slot.Next.Value.Answer.Task.WaitAsync(ct);
+            }
+            _slots[key] = slot = new Slot();
+            var answer = NewAnswer();
+            _ = RunAsync(key, slot, answer, read);
+            return answer.Task.WaitAsync(ct);
+        }
+    }
+
+    /// <summary>Reads for the key until no caller is waiting, then forgets the key.</summary>
+    async Task RunAsync(TKey key, Slot slot, TaskCompletionSource<TValue> answer, Func<Task<TValue>> read)
+    {
+        await Task.Yield(); // never read under the lock
+        while (true)
+        {
+            try
+            {
+                answer.TrySetResult(await read());
+            }
+            catch (OperationCanceledException)
+            {
+                answer.TrySetCanceled();
+            }
+            catch (Exception e)
+            {
+                answer.TrySetException(e);
+            }
+            lock (_slots)
+            {
+                if (slot.Next is not { } next)
+                {
+                    _slots.Remove(key);
+                    return;
+                }
+                slot.Next = null;
+                (answer, read) = next;
+            }
+        }
+    }
+
+    static TaskCompletionSource<TValue> NewAnswer() => new(TaskCreationOptions.RunContinuationsAsynchronously);
+}

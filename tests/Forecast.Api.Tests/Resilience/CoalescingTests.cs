@@ -1,0 +1,84 @@
+using Forecast.Api.Infrastructure;
+
+namespace Forecast.Api.Tests.Resilience;
+
+public class CoalescingTests
+{
+    /// <summary>A read that counts its runs and waits for the test to let it finish.</summary>
+    sealed class GatedRead
+    {
+        public int Runs;
+        public readonly List<TaskCompletionSource> Started = [new(), new(), new()];
+        public readonly List<TaskCompletionSource<int>> Gates = [new(), new(), new()];
+
+        public async Task<int> Read()
+        {
+            var run = Interlocked.Increment(ref Runs) - 1;
+            Started[run].SetResult();
+            return await Gates[run].Task;
+        }
+    }
+
+    [Fact]
+    public async Task CallersArrivingDuringAReadShareTheNextReadNotTheRunningOne()
+    {
+        var c = new Coalescing<int, int>();
+        var read = new GatedRead();
+        var first = c.GetAsync(1, read.Read, CancellationToken.None);
+        await read.Started[0].Task;
+        var second = c.GetAsync(1, read.Read, CancellationToken.None);
+        var third = c.GetAsync(1, read.Read, CancellationToken.None);
+
+        read.Gates[0].SetResult(10);
+        Assert.Equal(10, await first);
+        await read.Started[1].Task;
+        Assert.False(second.IsCompleted); // not answered from the read that began before it asked
+        read.Gates[1].SetResult(20);
+        Assert.Equal(20, await second);
+        Assert.Equal(20, await third);
+        Assert.Equal(2, read.Runs);
+    }
+
+    [Fact]
+    public async Task DifferentKeysReadSeparatelyAndAFailureReachesEveryCallerOfThatRead()
+    {
+        var c = new Coalescing<int, int>();
+        var a = new GatedRead();
+        var b = new GatedRead();
+        var x = c.GetAsync(1, a.Read, CancellationToken.None);
+        var y = c.GetAsync(2, b.Read, CancellationToken.None);
+        await a.Started[0].Task;
+        await b.Started[0].Task;
+        var x2 = c.GetAsync(1, a.Read, CancellationToken.None);
+        a.Gates[0].SetException(new TimeoutException("database away"));
+        await Assert.ThrowsAsync<TimeoutException>(() => x);
+        await a.Started[1].Task;
+        a.Gates[1].SetException(new TimeoutException("still away"));
+        await Assert.ThrowsAsync<TimeoutException>(() => x2);
+        b.Gates[0].SetResult(7);
+        Assert.Equal(7, await y);
+
+        // The key is forgotten once no caller waits: the next caller starts a fresh read.
+        var z = c.GetAsync(1, a.Read, CancellationToken.None);
+        await a.Started[2].Task;
+        a.Gates[2].SetResult(3);
+        Assert.Equal(3, await z);
+    }
+
+    [Fact]
+    public async Task ACallerThatGivesUpIsCancelledWithoutCancellingTheSharedRead()
+    {
+        var c = new Coalescing<int, int>();
+        var read = new GatedRead();
+        using var cts = new CancellationTokenSource();
+        var leaving = c.GetAsync(1, read.Read, cts.Token);
+        var staying = c.GetAsync(1, read.Read, CancellationToken.None);
+        await read.Started[0].Task;
+        await cts.CancelAsync();
+        await Assert.ThrowsAnyAsync<OperationCanceledException>(() => leaving);
+        read.Gates[0].SetResult(5);
+        await read.Started[1].Task;
+        read.Gates[1].SetResult(6);
+        Assert.Equal(6, await staying);
+    }
+}
