@@ -21,6 +21,8 @@ builder.Services.AddOptions<ServiceOptions>().BindConfiguration(ServiceOptions.S
     .ValidateDataAnnotations().ValidateOnStart();
 builder.Services.AddOptions<IngestOptions>().BindConfiguration(IngestOptions.Section)
     .ValidateDataAnnotations().ValidateOnStart();
+builder.Services.AddOptions<PollingOptions>().BindConfiguration(PollingOptions.Section)
+    .ValidateDataAnnotations().ValidateOnStart();
 builder.WebHost.ConfigureKestrel((context, kestrel) =>
     kestrel.Limits.MaxRequestBodySize = context.Configuration.GetValue(
         $"{IngestOptions.Section}:{nameof(IngestOptions.MaxBodyBytes)}", new IngestOptions().MaxBodyBytes));

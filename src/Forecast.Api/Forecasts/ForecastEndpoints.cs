@@ -77,7 +77,7 @@ public static class ForecastEndpoints
 
     static async Task<Results<Created<ForecastView>, ValidationProblem, ProblemHttpResult>> Compute(
         long id, ComputeRequest? body, HttpContext http, SequenceStore sequences, ForecastService service,
-        CancellationToken ct)
+        CoalescedReads reads, CancellationToken ct)
     {
         body ??= new ComputeRequest(null, null, null, null, null, null);
         var errors = new Dictionary<string, string[]>();
@@ -108,6 +108,7 @@ public static class ForecastEndpoints
                 IssueTimeUtc = issue, Mc = body.Mc, FitStartDays = body.FitStartDays, ParameterSet = body.ParameterSet,
                 WindowDays = body.WindowDays, Thresholds = body.Thresholds,
             }, "manual", Policies.KeyId(http.User), skipIfUnchanged: false, ct);
+            reads.Forget(id);
             return TypedResults.Created(ForecastViews.Url(id, f!.Number), ForecastView.From(f));
         }
         catch (SequenceException e)
@@ -122,7 +123,8 @@ public static class ForecastEndpoints
     }
 
     static async Task<Results<Ok<ForecastView>, ValidationProblem, ProblemHttpResult>> Release(
-        long id, int number, ReleaseRequest? body, HttpContext http, ForecastStore store, CancellationToken ct)
+        long id, int number, ReleaseRequest? body, HttpContext http, ForecastStore store, CoalescedReads reads,
+        CancellationToken ct)
     {
         var text = body?.AdvisoryText;
         if (text is not null && (string.IsNullOrWhiteSpace(text) || text.Length > MaxAdvisoryChars || HasControl(text)))
@@ -143,6 +145,7 @@ public static class ForecastEndpoints
             }, "The forecast was not released.");
         }
         var outcome = await store.ReleaseAsync(id, number, text, Policies.KeyId(http.User), ct);
+        reads.Forget(id);
         return outcome switch
         {
             TransitionOutcome.Done => TypedResults.Ok(ForecastView.From((await store.FindAsync(id, number, ct))!)),
@@ -157,7 +160,8 @@ public static class ForecastEndpoints
     static bool HasControl(string text) => text.Any(c => char.IsControl(c) && c is not ('\n' or '\r' or '\t'));
 
     static async Task<Results<Ok<ForecastView>, ValidationProblem, ProblemHttpResult>> Withdraw(
-        long id, int number, WithdrawRequest? body, HttpContext http, ForecastStore store, CancellationToken ct)
+        long id, int number, WithdrawRequest? body, HttpContext http, ForecastStore store, CoalescedReads reads,
+        CancellationToken ct)
     {
         if (body?.Reason is { } reason && (reason.Length > 2000 || HasControl(reason)))
         {
@@ -167,6 +171,7 @@ public static class ForecastEndpoints
             }, "The forecast was not withdrawn.");
         }
         var outcome = await store.WithdrawAsync(id, number, body?.Reason, Policies.KeyId(http.User), ct);
+        reads.Forget(id);
         return outcome switch
         {
             TransitionOutcome.Done => TypedResults.Ok(ForecastView.From((await store.FindAsync(id, number, ct))!)),

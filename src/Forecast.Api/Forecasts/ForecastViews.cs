@@ -1,3 +1,4 @@
+using Microsoft.Extensions.Options;
 using System.Text.Json;
 using Microsoft.Extensions.Caching.Memory;
 using Forecast.Api.Infrastructure;
@@ -133,15 +134,27 @@ public sealed class RenderedBodies(Microsoft.Extensions.Options.IOptions<Microso
 }
 
 /// <summary>The small reads that polling clients repeat, each shared by the callers asking it at the same time
-/// (<see cref="Coalescing{TKey, TValue}"/>: never answered from a read begun before the caller asked).</summary>
-public sealed class CoalescedReads(ForecastStore forecasts, SequenceStore sequences)
+/// (<see cref="Coalescing{TKey, TValue}"/>), and reused for <see cref="PollingOptions.ReadReuse"/> after it began.
+/// </summary>
+/// <remarks>The endpoints that change a forecast through this process (compute, release, withdraw) call
+/// <see cref="Forget"/>, so their caller's next read is exact; a change made by another process (the refit worker
+/// of another instance, say) shows within the reuse time.</remarks>
+public sealed class CoalescedReads(ForecastStore forecasts, SequenceStore sequences, IOptions<PollingOptions> polling)
 {
     /// <summary>At most this many active sequences are shown publicly (as in the public sequence list).</summary>
     public const int MaxPublicSequences = 500;
 
-    readonly Coalescing<long, ForecastVersion?> _latest = new();
-    readonly Coalescing<long, (SequenceRow?, ForecastVersion?)> _released = new();
-    readonly Coalescing<bool, (IReadOnlyList<SequenceRow>, IReadOnlyDictionary<long, int>)> _feed = new();
+    readonly Coalescing<long, ForecastVersion?> _latest = new(polling.Value.ReadReuse);
+    readonly Coalescing<long, (SequenceRow?, ForecastVersion?)> _released = new(polling.Value.ReadReuse);
+    readonly Coalescing<bool, (IReadOnlyList<SequenceRow>, IReadOnlyDictionary<long, int>)> _feed = new(polling.Value.ReadReuse);
+
+    /// <summary>Forgets what is known of the sequence's forecasts (and the feed), after this process changed them.</summary>
+    public void Forget(long sequenceId)
+    {
+        _latest.Forget(sequenceId);
+        _released.Forget(sequenceId);
+        _feed.ForgetAll();
+    }
 
     /// <summary>Which forecast of the sequence is the latest, in any state.</summary>
     public Task<ForecastVersion?> LatestVersionAsync(long sequenceId, CancellationToken ct) => _latest.GetAsync(sequenceId,

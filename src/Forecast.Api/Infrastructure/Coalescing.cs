@@ -8,9 +8,28 @@ namespace Forecast.Api.Infrastructure;
 /// data committed before it starts), the same guarantee as a read of one's own. With many clients polling one
 /// sequence this turns thousands of small queries a second into at most one running query and one waiting
 /// per key; a caller waits at most about two query durations. Failures reach every caller of that read.
+/// With a <c>reuseFor</c> above zero, a caller arriving within that time of the start of the last successful
+/// read gets its answer at once: answers may then be that much older than the caller's request (and never more),
+/// which keeps a busy key from being re-read back to back. <see cref="Forget"/> drops a key's answer when the
+/// process itself changed what it reads.
 /// </remarks>
-public sealed class Coalescing<TKey, TValue> where TKey : notnull
+public sealed class Coalescing<TKey, TValue>(TimeSpan reuseFor = default) where TKey : notnull
 {
+    readonly long _reuseTicks = (long)(reuseFor.TotalSeconds * System.Diagnostics.Stopwatch.Frequency);
+    readonly Dictionary<TKey, (long StartedAt, TValue Value)> _recent = [];
+
+    /// <summary>Drops the reusable answer of the key: the next caller reads afresh.</summary>
+    public void Forget(TKey key)
+    {
+        lock (_slots) _recent.Remove(key);
+    }
+
+    /// <summary>Drops every reusable answer.</summary>
+    public void ForgetAll()
+    {
+        lock (_slots) _recent.Clear();
+    }
+
     /// <summary>A key being read: the callers waiting for the next read, and the read they brought.</summary>
     sealed class Slot
     {
@@ -24,6 +43,11 @@ public sealed class Coalescing<TKey, TValue> where TKey : notnull
     {
         lock (_slots)
         {
+            if (_reuseTicks > 0 && _recent.TryGetValue(key, out var recent)
+                && System.Diagnostics.Stopwatch.GetTimestamp() - recent.StartedAt <= _reuseTicks)
+            {
+                return Task.FromResult(recent.Value);
+            }
             if (_slots.TryGetValue(key, out var slot))
             {
                 slot.Next ??= (NewAnswer(), read);
@@ -44,7 +68,13 @@ public sealed class Coalescing<TKey, TValue> where TKey : notnull
         {
             try
             {
-                answer.TrySetResult(await read());
+                var startedAt = System.Diagnostics.Stopwatch.GetTimestamp();
+                var value = await read();
+                if (_reuseTicks > 0)
+                {
+                    lock (_slots) _recent[key] = (startedAt, value);
+                }
+                answer.TrySetResult(value);
             }
             catch (OperationCanceledException)
             {

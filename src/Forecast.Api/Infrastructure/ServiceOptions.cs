@@ -30,3 +30,14 @@ public sealed class IngestOptions
     /// 110 MB, in FDSN text 15 MB).</summary>
     [Range(1_024, 1L << 34)] public long MaxCatalogBodyBytes { get; init; } = 512L * 1024 * 1024;
 }
+
+/// <summary>Section <c>Polling</c>: how the reads that dashboards repeat are shared.</summary>
+public sealed class PollingOptions
+{
+    public const string Section = "Polling";
+
+    /// <summary>How long the answer of a polled read (which forecast is the latest, the feed's list) is reused by
+    /// later callers: answers are at most this much older than the request. Zero reads for every request (still
+    /// coalescing concurrent ones). Changes made through this process are seen at once whatever the setting.</summary>
+    [Range(typeof(TimeSpan), "00:00:00", "00:00:05")] public TimeSpan ReadReuse { get; init; } = TimeSpan.FromMilliseconds(200);
+}

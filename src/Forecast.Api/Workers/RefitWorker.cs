@@ -30,7 +30,7 @@ public sealed class RefitWorkerOptions
 /// <summary>Keeps forecasts current: opens sequences for big new events, runs queued refits, queues scheduled ones.</summary>
 public sealed class RefitWorker(
     RefitProcessor processor, RefitQueue queue, SequenceStore sequences, IOptions<RefitWorkerOptions> options,
-    TimeProvider clock, ILogger<RefitWorker> log) : BackgroundService
+    TimeProvider clock, ILogger<RefitWorker> log, Forecasts.CoalescedReads reads) : BackgroundService
 {
     readonly string _name = $"{Environment.MachineName}:{Environment.ProcessId}:{Guid.NewGuid():N}";
 
@@ -65,7 +65,10 @@ public sealed class RefitWorker(
                     if (round.Error is not null)
                         log.LogWarning("Refit of sequence {SequenceId} failed: {Error}", round.SequenceId, round.Error);
                     else if (round.Forecast is { } f)
+                    {
+                        reads.Forget(f.SequenceId);   // pollers of this process see the new draft at once
                         log.LogInformation("Sequence {SequenceId}: forecast {Number} ({Reason})", f.SequenceId, f.Number, f.Reason);
+                    }
                 } while (round.DidWork && !stoppingToken.IsCancellationRequested);
                 if (failures > 0) log.LogInformation("Refit worker recovered after {Failures} failed rounds", failures);
                 failures = 0;

@@ -81,4 +81,32 @@ public class CoalescingTests
         read.Gates[1].SetResult(6);
         Assert.Equal(6, await staying);
     }
+
+    [Fact]
+    public async Task WithinTheReuseTimeTheLastAnswerIsGivenAtOnceAndForgetEndsThat()
+    {
+        var c = new Coalescing<int, int>(TimeSpan.FromMinutes(5));
+        var runs = 0;
+        Task<int> Read() => Task.FromResult(++runs * 10);
+        Assert.Equal(10, await c.GetAsync(1, Read, CancellationToken.None));
+        var reused = c.GetAsync(1, Read, CancellationToken.None);
+        Assert.True(reused.IsCompletedSuccessfully);   // no read: the answer of a read begun within the reuse time
+        Assert.Equal(10, await reused);
+        Assert.Equal(1, runs);
+        Assert.Equal(20, await c.GetAsync(2, Read, CancellationToken.None));   // another key reads for itself
+        c.Forget(1);
+        Assert.Equal(30, await c.GetAsync(1, Read, CancellationToken.None));
+        Assert.Equal(3, runs);
+    }
+
+    [Fact]
+    public async Task AfterTheReuseTimeTheNextCallerReadsAfresh()
+    {
+        var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1));
+        var runs = 0;
+        Task<int> Read() => Task.FromResult(++runs);
+        Assert.Equal(1, await c.GetAsync(1, Read, CancellationToken.None));
+        await Task.Delay(20);   // well past the 1 ms reuse time
+        Assert.Equal(2, await c.GetAsync(1, Read, CancellationToken.None));
+    }
 }
