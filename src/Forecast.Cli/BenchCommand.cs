@@ -12,8 +12,8 @@ static class BenchCommand
 {
     public static Command Create()
     {
-        var url = new Option<string>("--url") { Description = "API base address", DefaultValueFactory = _ => "http://127.0.0.1:5080" };
-        var key = new Option<string>("--key") { Description = "a feeder key", Required = true };
+        var url = BenchShared.UrlOption();
+        var key = BenchShared.KeyOption();
         var sizes = new Option<string>("--sizes") { Description = "batch sizes", DefaultValueFactory = _ => "1000,10000,100000" };
         var repeat = new Option<int>("--repeat") { Description = "batches per size", DefaultValueFactory = _ => 5 };
         var command = new Command("bench-ingest", "Post synthetic event batches to a running API and report events/s")
@@ -22,8 +22,7 @@ static class BenchCommand
         };
         command.SetAction((parse, ct) => CliException.GuardAsync(async () =>
         {
-            using var http = new HttpClient { BaseAddress = new Uri(parse.GetValue(url)!), Timeout = TimeSpan.FromMinutes(5) };
-            http.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", parse.GetValue(key));
+            using var http = BenchShared.Client(parse.GetValue(url)!, parse.GetValue(key)!, TimeSpan.FromMinutes(5));
             var run = DateTime.UtcNow.Ticks.ToString(CultureInfo.InvariantCulture);
             Console.WriteLine("batch_size  new_median_s  new_events_per_s  repost_median_s  repost_events_per_s");
             foreach (var size in parse.GetValue(sizes)!.Split(',').Select(s => int.Parse(s, CultureInfo.InvariantCulture)))
@@ -36,7 +35,7 @@ static class BenchCommand
                     fresh.Add(await TimePost(http, body, ct));
                     repost.Add(await TimePost(http, body, ct)); // identical: the idempotent path
                 }
-                double m1 = Median(fresh), m2 = Median(repost);
+                double m1 = BenchShared.Median(fresh), m2 = BenchShared.Median(repost);
                 Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                     $"{size,10}  {m1,12:F3}  {size / m1,16:F0}  {m2,15:F3}  {size / m2,19:F0}"));
             }
@@ -75,9 +74,4 @@ static class BenchCommand
         return Encoding.UTF8.GetBytes(sb.Append(']').ToString());
     }
 
-    static double Median(List<double> xs)
-    {
-        var s = xs.Order().ToArray();
-        return s.Length % 2 == 1 ? s[s.Length / 2] : (s[s.Length / 2 - 1] + s[s.Length / 2]) / 2;
-    }
 }

@@ -17,8 +17,8 @@ static class BenchUploadCommand
 {
     public static Command Create()
     {
-        var url = new Option<string>("--url") { Description = "API base address", DefaultValueFactory = _ => "http://127.0.0.1:5080" };
-        var key = new Option<string>("--key") { Description = "a feeder key", Required = true };
+        var url = BenchShared.UrlOption();
+        var key = BenchShared.KeyOption();
         var sizes = new Option<string>("--sizes") { Description = "events per document", DefaultValueFactory = _ => "10000,50000,100000" };
         var formats = new Option<string>("--formats") { Description = "quakeml, fdsn or both", DefaultValueFactory = _ => "quakeml,fdsn" };
         var repeat = new Option<int>("--repeat") { Description = "uploads per size and format", DefaultValueFactory = _ => 3 };
@@ -30,8 +30,7 @@ static class BenchUploadCommand
         };
         command.SetAction((parse, ct) => CliException.GuardAsync(async () =>
         {
-            using var http = new HttpClient { BaseAddress = new Uri(parse.GetValue(url)!), Timeout = TimeSpan.FromMinutes(10) };
-            http.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Bearer", parse.GetValue(key));
+            using var http = BenchShared.Client(parse.GetValue(url)!, parse.GetValue(key)!, TimeSpan.FromMinutes(10));
             var pid = parse.GetValue(serverPid);
             var run = DateTime.UtcNow.Ticks.ToString(CultureInfo.InvariantCulture);
             var dir = Directory.CreateTempSubdirectory("forecast-upload-");
@@ -55,7 +54,7 @@ static class BenchUploadCommand
                             if (pid is { } q) peak = Math.Max(peak, Memory(q, "VmHWM"));
                             File.Delete(file);
                         }
-                        var m = Median(seconds);
+                        var m = BenchShared.Median(seconds);
                         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
                             $"{format,-7} {size,7} {bytes / 1e6,6:F1}  {m,8:F3}  {size / m,12:F0}  {(pid is null ? "-" : before.ToString("F0", CultureInfo.InvariantCulture)),20}  {(pid is null ? "-" : peak.ToString("F0", CultureInfo.InvariantCulture)),14}"));
                     }
@@ -132,9 +131,4 @@ static class BenchUploadCommand
         return double.Parse(line[(field.Length + 1)..].Trim().Split(' ')[0], CultureInfo.InvariantCulture) / 1024;
     }
 
-    static double Median(List<double> xs)
-    {
-        var s = xs.Order().ToArray();
-        return s.Length % 2 == 1 ? s[s.Length / 2] : (s[s.Length / 2 - 1] + s[s.Length / 2]) / 2;
-    }
 }

@@ -51,23 +51,20 @@ public sealed class ForecastStore(NpgsqlDataSource db)
     }
 
     /// <summary>The highest-numbered forecast, in any state, or only released ones.</summary>
-    public async Task<ForecastRecord?> LatestAsync(long sequenceId, bool releasedOnly, CancellationToken ct)
-    {
-        await using var conn = await db.OpenConnectionAsync(ct);
-        return await conn.QuerySingleOrDefaultAsync<ForecastRecord>(new CommandDefinition($"""
-            select {Columns} from forecast
-            where sequence_id = @sequenceId and (not @releasedOnly or state = 'released')
-            order by number desc limit 1
-            """, new { sequenceId, releasedOnly }, cancellationToken: ct));
-    }
+    public Task<ForecastRecord?> LatestAsync(long sequenceId, bool releasedOnly, CancellationToken ct) =>
+        LatestAsync<ForecastRecord>(Columns, sequenceId, releasedOnly, ct);
 
     /// <summary>Which forecast is the latest (in any state, or only released) and in what state, without reading
     /// its result: what a cached rendering of it is keyed by.</summary>
-    public async Task<ForecastVersion?> LatestVersionAsync(long sequenceId, bool releasedOnly, CancellationToken ct)
+    public Task<ForecastVersion?> LatestVersionAsync(long sequenceId, bool releasedOnly, CancellationToken ct) =>
+        LatestAsync<ForecastVersion>(VersionColumns, sequenceId, releasedOnly, ct);
+
+    /// <param name="columns">One of this class's own column lists (constants), never caller text.</param>
+    async Task<T?> LatestAsync<T>(string columns, long sequenceId, bool releasedOnly, CancellationToken ct)
     {
         await using var conn = await db.OpenConnectionAsync(ct);
-        return await conn.QuerySingleOrDefaultAsync<ForecastVersion>(new CommandDefinition($"""
-            select {VersionColumns} from forecast
+        return await conn.QuerySingleOrDefaultAsync<T>(new CommandDefinition($"""
+            select {columns} from forecast
             where sequence_id = @sequenceId and (not @releasedOnly or state = 'released')
             order by number desc limit 1
             """, new { sequenceId, releasedOnly }, cancellationToken: ct));
