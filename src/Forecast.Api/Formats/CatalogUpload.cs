@@ -5,21 +5,20 @@ using Forecast.Formats;
 using Forecast.Storage.Events;
 using Microsoft.AspNetCore.Http.Features;
 using Microsoft.AspNetCore.Http.HttpResults;
-using Microsoft.AspNetCore.WebUtilities;
 
 namespace Forecast.Api.Formats;
 
 /// <summary>Streams a QuakeML or FDSN text body, event by event, into an all-or-nothing <see cref="EventBatch"/>:
 /// checked with the same rules as the JSON ingest, and refused whole with problem details when any event is bad.
 /// </summary>
-/// <remarks>Memory does not grow with the document: the body goes to a temporary file once it passes
-/// <see cref="MemoryBufferBytes"/> (the readers are synchronous, and Kestrel allows no synchronous reads of the
-/// request itself), the reader yields one event at a time, and each checked event goes straight to the
-/// database's staging table. A bad event stops the staging; the rest of the document is still read for its
-/// problems, and the batch is rolled back.</remarks>
+/// <remarks>Memory does not grow with the document: at most <see cref="PipeBytes"/> of the body waits for the
+/// reader, which yields one event at a time, and each checked event goes straight to the database's staging
+/// table. A bad event stops the staging; the rest of the document is still read for its problems, and the batch is
+/// rolled back.</remarks>
 public static class CatalogUpload
 {
-    const int MemoryBufferBytes = 1024 * 1024;
+    /// <summary>At most this much of the body waits in memory for the reader.</summary>
+    const int PipeBytes = 1024 * 1024;
 
     /// <summary>A batch staged from a good document (commit it), or the problem that refuses the document.</summary>
     public sealed record Staged(EventBatch? Batch, ValidationProblem? Invalid, ProblemHttpResult? Problem);
@@ -39,41 +38,64 @@ public static class CatalogUpload
         if (request.ContentLength > limit) return new(null, null, Problems.TooLarge(limit));
         if (request.HttpContext.Features.Get<IHttpMaxRequestBodySizeFeature>() is { IsReadOnly: false } size)
             size.MaxRequestBodySize = limit;
-        request.EnableBuffering(MemoryBufferBytes, limit);
-        try
-        {
-            await request.Body.DrainAsync(ct);
-        }
-        catch (BadHttpRequestException e) when (e.StatusCode == StatusCodes.Status413PayloadTooLarge)
-        {
-            return new(null, null, Problems.TooLarge(limit));
-        }
-        catch (IOException) when (!ct.IsCancellationRequested)
-        {
-            // FileBufferingReadStream's "buffer limit exceeded".
-            return new(null, null, Problems.TooLarge(limit));
-        }
-        request.Body.Position = 0;
-
         var options = new CatalogReadOptions
         {
             NowUtc = nowUtc, Source = source, Status = status, MaxCharacters = limit,
         };
-        var items = format == CatalogFormat.QuakeMl
-            ? QuakeMl.ReadEvents(request.Body, options)
-            : FdsnText.ReadEvents(request.Body, options);
         var name = format == CatalogFormat.QuakeMl ? "QuakeML" : "FDSN text";
 
+        // The body flows through a bounded pipe to a reader on its own thread, so the document is read while it is
+        // still arriving and never held whole: the readers are synchronous (XmlReader), and blocking on the pipe
+        // belongs on a thread of its own, not on Kestrel's or the pool's.
         var batch = await store.BeginBatchAsync(ct);
+        var pipe = new System.IO.Pipelines.Pipe(new System.IO.Pipelines.PipeOptions(
+            pauseWriterThreshold: PipeBytes, resumeWriterThreshold: PipeBytes / 2));
+        var reading = Task.Factory.StartNew(() =>
+        {
+            using var input = pipe.Reader.AsStream();
+            try
+            {
+                var items = format == CatalogFormat.QuakeMl
+                    ? QuakeMl.ReadEvents(input, options)
+                    : FdsnText.ReadEvents(input, options);
+                return CatalogReader.Scan(items, e => batch.Add(ToInput(e)), limits.MaxEventsPerPost);
+            }
+            finally
+            {
+                pipe.Reader.Complete();   // a reader that stopped early releases the upload
+            }
+        }, CancellationToken.None, TaskCreationOptions.LongRunning, TaskScheduler.Default);
+
+        Exception? upload = null;
+        try
+        {
+            await request.BodyReader.CopyToAsync(pipe.Writer, ct);
+        }
+        catch (Exception e)
+        {
+            upload = e;
+        }
+        await pipe.Writer.CompleteAsync(upload is null ? null : new IOException("The upload ended early.", upload));
         CatalogScan scan;
         try
         {
-            scan = CatalogReader.Scan(items, e => batch.Add(ToInput(e)), limits.MaxEventsPerPost);
+            scan = await reading;
+        }
+        catch when (upload is not null)
+        {
+            scan = null!;   // the reader failed because the upload did; the upload's failure is the answer
         }
         catch
         {
             await batch.DisposeAsync();
             throw;
+        }
+        if (upload is not null)
+        {
+            await batch.DisposeAsync();
+            if (upload is BadHttpRequestException { StatusCode: StatusCodes.Status413PayloadTooLarge })
+                return new(null, null, Problems.TooLarge(limit));
+            System.Runtime.ExceptionServices.ExceptionDispatchInfo.Throw(upload);
         }
         if (scan.IsValid) return new(batch, null, null);
         await batch.DisposeAsync();
