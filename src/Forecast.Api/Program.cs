@@ -33,6 +33,7 @@ builder.Services.AddExceptionHandler<DatabaseOutageHandler>();
 builder.Services.AddSingleton(TimeProvider.System);
 builder.Services.AddNpgsqlDataSource(connectionString);
 builder.Services.AddSingleton<EventStore>();
+builder.Services.AddSingleton<Forecast.Api.Formats.CatalogUploadSlots>();
 builder.Services.AddSingleton<ApiKeyStore>();
 builder.Services.AddSequencesAndForecasts();
 builder.Services.AddPublicApi(builder.Configuration);

@@ -37,7 +37,7 @@ public static class EventEndpoints
     static async Task<Results<Created<EventWriteResult>, Ok<EventWriteResult>, Ok<BatchWriteResult>,
         ValidationProblem, ProblemHttpResult>> PostEvents(
         HttpRequest request, EventStore store, IOptions<IngestOptions> options, TimeProvider clock,
-        ILoggerFactory logs, CancellationToken ct, string? source = null, string? status = null)
+        ILoggerFactory logs, CatalogUploadSlots slots, CancellationToken ct, string? source = null, string? status = null)
     {
         var limits = options.Value;
         var started = System.Diagnostics.Stopwatch.GetTimestamp();
@@ -45,12 +45,25 @@ public static class EventEndpoints
         if (format is null) return Problems.UnsupportedMediaType(request.ContentType, CatalogMediaTypes.Uploads);
         if (format != CatalogFormat.Json)
         {
-            var staged = await CatalogUpload.StageAsync(request, format.Value, source, status, limits,
-                clock.GetUtcNow().UtcDateTime, store, ct);
-            if (staged.Invalid is { } invalid) return invalid;
-            if (staged.Problem is { } problem) return problem;
-            await using var batch = staged.Batch!;
-            return await StoreAsync(batch, isArray: true, request, logs, started, ct);
+            if (!slots.TryEnter())
+            {
+                request.HttpContext.Response.Headers.RetryAfter = "5";
+                return Problems.Unavailable($"{limits.MaxConcurrentCatalogUploads} QuakeML or FDSN text uploads are " +
+                    "already being read; nothing was stored. Retry after 5 s.");
+            }
+            try
+            {
+                var staged = await CatalogUpload.StageAsync(request, format.Value, source, status, limits,
+                    clock.GetUtcNow().UtcDateTime, store, ct);
+                if (staged.Invalid is { } invalid) return invalid;
+                if (staged.Problem is { } problem) return problem;
+                await using var batch = staged.Batch!;
+                return await StoreAsync(batch, isArray: true, request, logs, started, ct);
+            }
+            finally
+            {
+                slots.Release();
+            }
         }
         if (request.ContentLength > limits.MaxBodyBytes) return Problems.TooLarge(limits.MaxBodyBytes);
         if (source is not null || status is not null)

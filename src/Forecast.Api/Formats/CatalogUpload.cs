@@ -122,3 +122,16 @@ public static class CatalogUpload
     static EventInput ToInput(EventRecord e) => new(e.Source, e.Id, e.TimeUtc, e.Latitude, e.Longitude, e.DepthKm,
         e.Magnitude, e.MagnitudeType, e.Status);
 }
+
+/// <summary>The slots of <see cref="IngestOptions.MaxConcurrentCatalogUploads"/>.</summary>
+public sealed class CatalogUploadSlots(Microsoft.Extensions.Options.IOptions<IngestOptions> options) : IDisposable
+{
+    readonly SemaphoreSlim _slots = new(options.Value.MaxConcurrentCatalogUploads);
+
+    /// <summary>Takes a slot if one is free, without waiting.</summary>
+    public bool TryEnter() => _slots.Wait(0);
+
+    public void Release() => _slots.Release();
+
+    public void Dispose() => _slots.Dispose();
+}

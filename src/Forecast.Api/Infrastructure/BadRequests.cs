@@ -22,7 +22,10 @@ public sealed class BadRequestHandler : IExceptionHandler
                 .GetRequiredService<Microsoft.Extensions.Options.IOptions<IngestOptions>>().Value.MaxBodyBytes),
             StatusCodes.Status415UnsupportedMediaType => Problems.UnsupportedMediaType(http.Request.ContentType,
                 "application/json"),
-            _ => Problems.Malformed(Describe(bad)),
+            StatusCodes.Status400BadRequest => Problems.Malformed(Describe(bad)),
+            // Kestrel's own refusals (408 for a body arriving too slowly, and the like) keep their status.
+            _ => TypedResults.Problem(statusCode: bad.StatusCode, type: Problems.TypeBase + "bad-request",
+                title: "The request cannot be served", detail: bad.Message),
         };
         await result.ExecuteAsync(http);
         return true;

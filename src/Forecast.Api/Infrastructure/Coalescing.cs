@@ -15,19 +15,47 @@ namespace Forecast.Api.Infrastructure;
 /// </remarks>
 public sealed class Coalescing<TKey, TValue>(TimeSpan reuseFor = default) where TKey : notnull
 {
+    /// <summary>Expired answers are swept once more than this many are kept (keys may come from the public).</summary>
+    const int SweepAbove = 1024;
+
     readonly long _reuseTicks = (long)(reuseFor.TotalSeconds * System.Diagnostics.Stopwatch.Frequency);
     readonly Dictionary<TKey, (long StartedAt, TValue Value)> _recent = [];
+    // Bumped by Forget: a read that began before a Forget must not leave its answer for reuse.
+    readonly Dictionary<TKey, long> _generation = [];
+    long _allGeneration;
 
-    /// <summary>Drops the reusable answer of the key: the next caller reads afresh.</summary>
+    /// <summary>Drops the reusable answer of the key: the next caller reads afresh, and a read already running
+    /// does not leave its (older) answer behind.</summary>
     public void Forget(TKey key)
     {
-        lock (_slots) _recent.Remove(key);
+        lock (_slots)
+        {
+            _recent.Remove(key);
+            _generation[key] = _generation.GetValueOrDefault(key) + 1;
+        }
     }
 
-    /// <summary>Drops every reusable answer.</summary>
+    /// <summary>Drops every reusable answer, as <see cref="Forget"/> does for one key.</summary>
     public void ForgetAll()
     {
-        lock (_slots) _recent.Clear();
+        lock (_slots)
+        {
+            _recent.Clear();
+            _allGeneration++;
+        }
+    }
+
+    (long, long) GenerationOf(TKey key) => (_generation.GetValueOrDefault(key), _allGeneration);
+
+    void Keep(TKey key, long startedAt, TValue value)
+    {
+        _recent[key] = (startedAt, value);
+        if (_recent.Count <= SweepAbove) return;
+        var now = System.Diagnostics.Stopwatch.GetTimestamp();
+        foreach (var (k, recent) in _recent.ToList())
+            if (now - recent.StartedAt > _reuseTicks) _recent.Remove(k);
+        // Generations only matter while a read is running; keys without one can start again from zero.
+        foreach (var k in _generation.Keys.Where(k => !_slots.ContainsKey(k)).ToList()) _generation.Remove(k);
     }
 
     /// <summary>A key being read: the callers waiting for the next read, and the read they brought.</summary>
@@ -68,11 +96,20 @@ public sealed class Coalescing<TKey, TValue>(TimeSpan reuseFor = default) where 
         {
             try
             {
-                var startedAt = System.Diagnostics.Stopwatch.GetTimestamp();
+                long startedAt;
+                (long, long) generation;
+                lock (_slots)
+                {
+                    startedAt = System.Diagnostics.Stopwatch.GetTimestamp();
+                    generation = GenerationOf(key);
+                }
                 var value = await read();
                 if (_reuseTicks > 0)
                 {
-                    lock (_slots) _recent[key] = (startedAt, value);
+                    lock (_slots)
+                    {
+                        if (GenerationOf(key) == generation) Keep(key, startedAt, value);
+                    }
                 }
                 answer.TrySetResult(value);
             }

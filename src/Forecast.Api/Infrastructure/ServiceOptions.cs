@@ -29,6 +29,11 @@ public sealed class IngestOptions
     /// event from a temporary file, so memory does not grow with them (100,000 QuakeML events take about
     /// 110 MB, in FDSN text 15 MB).</summary>
     [Range(1_024, 1L << 34)] public long MaxCatalogBodyBytes { get; init; } = 512L * 1024 * 1024;
+
+    /// <summary>QuakeML and FDSN text uploads staged at once. Each holds a database connection and an open
+    /// transaction while its body arrives, so a few slow senders must not take the whole pool; one more is
+    /// answered 503 with Retry-After.</summary>
+    [Range(1, 64)] public int MaxConcurrentCatalogUploads { get; init; } = 4;
 }
 
 /// <summary>Section <c>Polling</c>: how the reads that dashboards repeat are shared.</summary>

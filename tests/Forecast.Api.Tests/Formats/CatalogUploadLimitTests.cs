@@ -81,4 +81,17 @@ public class CatalogUploadLimitTests(SmallCatalogLimitServer api) : IClassFixtur
         Assert.Equal(300, (await response.Content.ReadFromJsonAsync<JsonElement>()).GetProperty("created").GetInt32());
         Assert.Equal(300, await CountAsync("within"));
     }
+
+    [Fact]
+    public void UploadSlotsAdmitAtMostTheConfiguredNumberAtOnce()
+    {
+        // The endpoint answers 503 with Retry-After when TryEnter fails; the slots themselves are checked here.
+        using var slots = new Forecast.Api.Formats.CatalogUploadSlots(Microsoft.Extensions.Options.Options.Create(
+            new Forecast.Api.Infrastructure.IngestOptions { MaxConcurrentCatalogUploads = 2 }));
+        Assert.True(slots.TryEnter());
+        Assert.True(slots.TryEnter());
+        Assert.False(slots.TryEnter());
+        slots.Release();
+        Assert.True(slots.TryEnter());
+    }
 }

@@ -109,4 +109,21 @@ public class CoalescingTests
         await Task.Delay(20);   // well past the 1 ms reuse time
         Assert.Equal(2, await c.GetAsync(1, Read, CancellationToken.None));
     }
+
+    [Fact]
+    public async Task AReadRunningWhenTheKeyIsForgottenDoesNotLeaveItsAnswerForReuse()
+    {
+        var c = new Coalescing<int, int>(TimeSpan.FromMinutes(5));
+        var read = new GatedRead();
+        var before = c.GetAsync(1, read.Read, CancellationToken.None);
+        await read.Started[0].Task;
+        c.Forget(1);                      // the process changed what the running read may already have seen
+        read.Gates[0].SetResult(10);
+        Assert.Equal(10, await before);   // its own caller asked before the change
+        var after = c.GetAsync(1, read.Read, CancellationToken.None);
+        await read.Started[1].Task;       // a fresh read, not the answer from before the change
+        read.Gates[1].SetResult(20);
+        Assert.Equal(20, await after);
+        Assert.Equal(2, read.Runs);
+    }
 }
