@@ -1,7 +1,5 @@
 using System.CommandLine;
-using System.Diagnostics;
 using System.Globalization;
-using System.Net.Http.Headers;
 using System.Text;
 
 namespace Forecast.Cli;
@@ -46,14 +44,8 @@ static class BenchCommand
 
     static async Task<double> TimePost(HttpClient http, byte[] body, CancellationToken ct)
     {
-        var content = new ByteArrayContent(body);
-        content.Headers.ContentType = new MediaTypeHeaderValue("application/json");
-        var clock = Stopwatch.StartNew();
-        using var response = await http.PostAsync("/v1/events", content, ct);
-        clock.Stop();
-        if (!response.IsSuccessStatusCode)
-            throw new CliException($"POST failed: {(int)response.StatusCode} {await response.Content.ReadAsStringAsync(ct)}");
-        return clock.Elapsed.TotalSeconds;
+        using var content = new ByteArrayContent(body);
+        return await BenchShared.TimePostAsync(http, content, "application/json", ct);
     }
 
     static byte[] Batch(string prefix, int size)

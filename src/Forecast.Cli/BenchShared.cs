@@ -18,6 +18,19 @@ static class BenchShared
         return http;
     }
 
+    /// <summary>Posts events and returns the seconds the whole request took; a refusal stops the benchmark.</summary>
+    public static async Task<double> TimePostAsync(HttpClient http, HttpContent content, string mediaType,
+        CancellationToken ct)
+    {
+        content.Headers.ContentType = new MediaTypeHeaderValue(mediaType);
+        var clock = System.Diagnostics.Stopwatch.StartNew();
+        using var response = await http.PostAsync("/v1/events", content, ct);
+        clock.Stop();
+        if (!response.IsSuccessStatusCode)
+            throw new CliException($"POST failed: {(int)response.StatusCode} {await response.Content.ReadAsStringAsync(ct)}");
+        return clock.Elapsed.TotalSeconds;
+    }
+
     public static double Median(IReadOnlyCollection<double> xs)
     {
         var s = xs.Order().ToArray();

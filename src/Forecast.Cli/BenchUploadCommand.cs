@@ -1,7 +1,5 @@
 using System.CommandLine;
-using System.Diagnostics;
 using System.Globalization;
-using System.Net.Http.Headers;
 using System.Text;
 using Forecast.Formats;
 
@@ -101,13 +99,8 @@ static class BenchUploadCommand
     {
         await using var body = File.OpenRead(file);
         using var content = new StreamContent(body, 1 << 16);
-        content.Headers.ContentType = new MediaTypeHeaderValue(format == "quakeml" ? FormatNames.QuakeMl : FormatNames.FdsnText);
-        var clock = Stopwatch.StartNew();
-        using var response = await http.PostAsync("/v1/events", content, ct);
-        clock.Stop();
-        if (!response.IsSuccessStatusCode)
-            throw new CliException($"POST failed: {(int)response.StatusCode} {await response.Content.ReadAsStringAsync(ct)}");
-        return clock.Elapsed.TotalSeconds;
+        return await BenchShared.TimePostAsync(http, content,
+            format == "quakeml" ? FormatNames.QuakeMl : FormatNames.FdsnText, ct);
     }
 
     /// <summary>Resets the process's resident-memory high-water mark; returns its resident memory now, in MB.</summary>
