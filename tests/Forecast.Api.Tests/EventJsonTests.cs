@@ -13,7 +13,15 @@ public class EventJsonTests
          "depthKm": 10, "magnitude": 3.2, "magnitudeType": "ML", "status": "reviewed"}
         """;
 
-    static EventJson.Parsed Read(string json) => EventJson.Read(JsonDocument.Parse(json).RootElement, Now);
+    sealed record Result(List<Forecast.Storage.Events.EventInput> Events, Dictionary<string, string[]> Errors,
+        int BadItems);
+
+    static Result Read(string json)
+    {
+        var events = new List<Forecast.Storage.Events.EventInput>();
+        var parsed = EventJson.Read(JsonDocument.Parse(json).RootElement, Now, events.Add);
+        return new Result(events, parsed.Errors, parsed.BadItems);
+    }
 
     static string With(string field, string valueJson)
     {
@@ -30,6 +38,18 @@ public class EventJsonTests
         var e = Assert.Single(parsed.Events);
         Assert.Equal(new DateTime(2026, 6, 1, 11, 0, 0, DateTimeKind.Utc), e.OriginTime);
         Assert.Equal(("zz", "e1", 3.2, "reviewed"), (e.Source, e.EventId, e.Magnitude, e.Status));
+    }
+
+    [Fact]
+    public void GoodEventsAreHandedOnOnlyUntilTheFirstBadOne()
+    {
+        // The endpoint stages what it is handed; after a bad item the batch is refused, so nothing more is staged.
+        var bad = With("latitude", "91");
+        var events = new List<Forecast.Storage.Events.EventInput>();
+        var parsed = EventJson.Read(JsonDocument.Parse($"[{Good}, {bad}, {Good}, {bad}]").RootElement, Now, events.Add);
+        Assert.Single(events);
+        Assert.Equal((4, 2, true), (parsed.Count, parsed.BadItems, parsed.IsArray));
+        Assert.Equal(["[1].latitude", "[3].latitude"], parsed.Errors.Keys.Order());
     }
 
     [Theory]

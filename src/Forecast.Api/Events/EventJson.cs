@@ -17,27 +17,32 @@ public static class EventJson
     static readonly HashSet<string> Known =
         ["id", "source", "time", "latitude", "longitude", "depthKm", "magnitude", "magnitudeType", "status"];
 
-    public sealed record Parsed(
-        IReadOnlyList<EventInput> Events, Dictionary<string, string[]> Errors, bool IsArray, int BadItems);
+    /// <summary>What reading a body found: the items it holds, their problems keyed like <c>[3].latitude</c>, and
+    /// how many items were bad.</summary>
+    public sealed record Parsed(int Count, Dictionary<string, string[]> Errors, bool IsArray, int BadItems);
 
-    public static Parsed Read(JsonElement root, DateTime nowUtc)
+    /// <summary>Checks every item of <paramref name="root"/> (one event object or an array of them) and hands each
+    /// good one to <paramref name="accept"/>, in order, until the first bad one: from then on the body is only
+    /// read for its problems. No event is kept here, so a large batch leaves nothing behind for the collector but
+    /// what <paramref name="accept"/> keeps.</summary>
+    public static Parsed Read(JsonElement root, DateTime nowUtc, Action<EventInput> accept)
     {
         var errors = new Dictionary<string, string[]>();
-        var events = new List<EventInput>();
         if (root.ValueKind == JsonValueKind.Array)
         {
             int i = 0, bad = 0;
             foreach (var item in root.EnumerateArray())
             {
-                if (ReadOne(item, $"[{i}].", nowUtc, errors) is { } e) events.Add(e);
-                else bad++;
+                if (ReadOne(item, $"[{i}].", nowUtc, errors) is not { } e) bad++;
+                else if (bad == 0) accept(e);
                 i++;
             }
             if (i == 0) Add(errors, "", "the array holds no events");
-            return new Parsed(events, errors, true, bad);
+            return new Parsed(i, errors, true, bad);
         }
         var single = ReadOne(root, "", nowUtc, errors);
-        return new Parsed(single is null ? [] : [single], errors, false, single is null ? 1 : 0);
+        if (single is not null) accept(single);
+        return new Parsed(1, errors, false, single is null ? 1 : 0);
     }
 
     static EventInput? ReadOne(JsonElement item, string at, DateTime nowUtc, Dictionary<string, string[]> errors)
