@@ -10,4 +10,5 @@ root.Subcommands.Add(DemoCommand.Create());
 root.Subcommands.Add(BenchCommand.Create());
 root.Subcommands.Add(BenchRefitCommand.Create());
 root.Subcommands.Add(BenchUploadCommand.Create());
+root.Subcommands.Add(BenchPollCommand.Create());
 return await root.Parse(args).InvokeAsync();

@@ -101,9 +101,15 @@ public static class EventEndpoints
             }
             // Each checked event goes straight into the batch's staging table instead of a list: a list of a
             // hundred thousand events would outlive several collections, and copying it is what made the
-            // collector pause every request in the process (docs/PERFORMANCE.md, "Load").
+            // collector pause every request in the process. The walk is CPU work of up to a second, with blocking
+            // writes when the staging buffer fills, so it runs on a thread of its own: on the pool it would hold
+            // one of the few threads that answer every other request (docs/PERFORMANCE.md, "Load").
             await using var batch = await store.BeginBatchAsync(ct);
-            var parsed = EventJson.Read(root, clock.GetUtcNow().UtcDateTime, batch.Add);
+            var now = clock.GetUtcNow().UtcDateTime;
+            var parsed = root.ValueKind == JsonValueKind.Array && root.GetArrayLength() > ItemsListedUpTo
+                ? await Task.Factory.StartNew(() => EventJson.Read(root, now, batch.Add), CancellationToken.None,
+                    TaskCreationOptions.LongRunning, TaskScheduler.Default)
+                : EventJson.Read(root, now, batch.Add);
             if (parsed.Errors.Count > 0)
             {
                 var detail = parsed.IsArray

@@ -14,8 +14,12 @@ public static class EventJson
 {
     public const int MaxReportedErrors = 200;
 
-    static readonly HashSet<string> Known =
+    static readonly string[] Known =
         ["id", "source", "time", "latitude", "longitude", "depthKm", "magnitude", "magnitudeType", "status"];
+
+    /// <summary><see cref="Known"/> as UTF-8, to compare with a property's name without making a string of it.
+    /// </summary>
+    static readonly byte[][] KnownUtf8 = [.. Known.Select(System.Text.Encoding.UTF8.GetBytes)];
 
     /// <summary>What reading a body found: the items it holds, their problems keyed like <c>[3].latitude</c>, and
     /// how many items were bad.</summary>
@@ -68,11 +72,13 @@ public static class EventJson
     static EventInput? ReadFields(JsonElement item, string at, DateTime nowUtc, Dictionary<string, string[]> errors)
     {
         var before = errors.Count;
-        var seen = new HashSet<string>();
+        var seen = 0;   // a bit per known field
         foreach (var property in item.EnumerateObject())
         {
-            if (!Known.Contains(property.Name)) Add(errors, at + property.Name, "is not a known field");
-            else if (!seen.Add(property.Name)) Add(errors, at + property.Name, "appears more than once");
+            var k = KnownIndex(property);
+            if (k < 0) Add(errors, at + property.Name, "is not a known field");
+            else if ((seen & (1 << k)) != 0) Add(errors, at + Known[k], "appears more than once");
+            else seen |= 1 << k;
         }
 
         var id = Text(item, "id", at, errors, EventRules.CheckId);
@@ -90,6 +96,13 @@ public static class EventJson
         if (errors.Count > before) return null;
         return new EventInput(source!, id!, time!.Value, latitude!.Value, longitude!.Value, depthKm!.Value,
             magnitude!.Value, magnitudeType!, status!);
+    }
+
+    static int KnownIndex(JsonProperty property)
+    {
+        for (var k = 0; k < KnownUtf8.Length; k++)
+            if (property.NameEquals(KnownUtf8[k])) return k;
+        return -1;
     }
 
     static string? Text(JsonElement item, string name, string at, Dictionary<string, string[]> errors,

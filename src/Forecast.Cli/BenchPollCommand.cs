@@ -1,0 +1,189 @@
+using System.CommandLine;
+using System.Diagnostics;
+using System.Globalization;
+using System.Net.Http.Headers;
+
+namespace Forecast.Cli;
+
+/// <summary><c>forecast bench-poll</c>: polls endpoints at fixed rates (an open loop) and reports each one's
+/// latency percentiles.</summary>
+/// <remarks>
+/// Requests are sent on a schedule, not when the previous answer came back, because a population of dashboards
+/// polls on timers: when the service stalls, requests pile up behind the stall instead of being put off. Each
+/// latency therefore runs from the request's scheduled time to the end of its answer, which counts the waiting a
+/// stall causes for every request scheduled during it (the correction for "coordinated omission", Tene 2013,
+/// "How NOT to measure latency"; common practice in load testing). A request that fails or answers other than
+/// 200 is counted apart and makes the command exit non-zero.
+/// </remarks>
+static class BenchPollCommand
+{
+    /// <summary>One polled endpoint: a name for the report, a path under the base address, requests per second.
+    /// </summary>
+    sealed record Target(string Name, string Path, double Rate);
+
+    sealed class Tally(int capacity)
+    {
+        public readonly double[] LatencyMs = new double[capacity];
+        public readonly float[] SentAtSeconds = new float[capacity];
+        public int Count, Failed, Scheduled;
+        public long Bytes;
+        public string? FirstFailure;
+    }
+
+    public static Command Create()
+    {
+        var url = BenchShared.UrlOption();
+        var key = new Option<string?>("--key")
+        {
+            Description = "a key sent as a bearer token, except to /v1/public/ paths, which dashboards poll without one",
+        };
+        var targets = new Option<string[]>("--target")
+        {
+            Required = true, AllowMultipleArgumentsPerToken = false,
+            Description = "NAME=PATH@RATE, e.g. public=/v1/public/sequences/1/forecast@3000; repeat for more",
+        };
+        var duration = new Option<double>("--duration") { DefaultValueFactory = _ => 30, Description = "seconds measured" };
+        var warmup = new Option<double>("--warmup") { DefaultValueFactory = _ => 3, Description = "seconds polled first, not counted" };
+        var connections = new Option<int>("--connections")
+        {
+            DefaultValueFactory = _ => 64, Description = "most connections open at once (more requests wait for one)",
+        };
+        var timeline = new Option<bool>("--timeline")
+        {
+            Description = "also print, per target and second of the run, the requests sent, their p50, p99 and max",
+        };
+        var command = new Command("bench-poll", "Poll endpoints at fixed rates and report latency from the scheduled send time")
+        {
+            url, key, targets, duration, warmup, connections, timeline,
+        };
+        command.SetAction((parse, ct) => CliException.GuardAsync(() => Run(parse.GetValue(url)!, parse.GetValue(key),
+            parse.GetValue(targets)!.Select(ParseTarget).ToList(), parse.GetValue(duration), parse.GetValue(warmup),
+            parse.GetValue(connections), parse.GetValue(timeline), ct)));
+        return command;
+    }
+
+    static Target ParseTarget(string text)
+    {
+        var eq = text.IndexOf('=');
+        var at = text.LastIndexOf('@');
+        if (eq <= 0 || at < eq + 2 || !text[(eq + 1)..].StartsWith('/')
+            || !double.TryParse(text[(at + 1)..], NumberStyles.Float, CultureInfo.InvariantCulture, out var rate)
+            || !(rate > 0 && rate <= 100_000))
+        {
+            throw new CliException($"--target {text}: expected NAME=PATH@RATE with PATH starting with / and 0 < RATE <= 100000");
+        }
+        return new Target(text[..eq], text[(eq + 1)..at], rate);
+    }
+
+    static async Task<int> Run(string url, string? key, List<Target> targets, double duration, double warmup,
+        int connections, bool timeline, CancellationToken ct)
+    {
+        if (!(duration > 0) || warmup < 0) throw new CliException("--duration must be positive and --warmup not negative.");
+        if (connections < 1) throw new CliException("--connections must be at least 1.");
+        using var handler = new SocketsHttpHandler
+        {
+            MaxConnectionsPerServer = connections, UseCookies = false, PooledConnectionLifetime = Timeout.InfiniteTimeSpan,
+        };
+        using var http = new HttpClient(handler) { BaseAddress = new Uri(url), Timeout = TimeSpan.FromSeconds(10) };
+        var bearer = key is null ? null : new AuthenticationHeaderValue("Bearer", key);
+        var auth = targets.Select(t => t.Path.StartsWith("/v1/public/", StringComparison.Ordinal) ? null : bearer).ToList();
+
+        if (warmup > 0) await Poll(http, targets, auth, warmup, ct);
+        var tallies = await Poll(http, targets, auth, duration, ct);
+
+        var failed = 0;
+        foreach (var (t, tally) in targets.Zip(tallies))
+        {
+            var ms = tally.LatencyMs.AsSpan(0, tally.Count).ToArray();
+            Array.Sort(ms);
+            Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                $"{t.Name,-8} offered {t.Rate,6:F0}/s  answered {tally.Count / duration,7:F0}/s  ({tally.Count} ok of {tally.Scheduled} sent, {tally.Failed} failed)  " +
+                $"p50 {Percentile(ms, 0.50):F2} ms  p90 {Percentile(ms, 0.90):F2} ms  p99 {Percentile(ms, 0.99):F2} ms  " +
+                $"p99.9 {Percentile(ms, 0.999):F2} ms  max {(ms.Length > 0 ? ms[^1] : double.NaN):F2} ms  " +
+                $"{(tally.Count > 0 ? tally.Bytes / tally.Count : 0)} bytes"));
+            if (tally.FirstFailure is not null) Console.WriteLine($"{t.Name,-8} first failure: {tally.FirstFailure}");
+            failed += tally.Failed + (tally.Scheduled - tally.Count - tally.Failed);
+        }
+        if (timeline)
+        {
+            foreach (var (t, tally) in targets.Zip(tallies)) PrintTimeline(t.Name, tally);
+        }
+        return failed == 0 ? 0 : 1;
+    }
+
+    static void PrintTimeline(string name, Tally tally)
+    {
+        var bySecond = Enumerable.Range(0, tally.Count).GroupBy(i => (int)tally.SentAtSeconds[i]).OrderBy(g => g.Key);
+        foreach (var second in bySecond)
+        {
+            var ms = second.Select(i => tally.LatencyMs[i]).Order().ToArray();
+            Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                $"{name,-8} second {second.Key,4}  sent {ms.Length,6}  p50 {Percentile(ms, 0.5):F1} ms  p99 {Percentile(ms, 0.99):F1} ms  max {ms[^1]:F1} ms"));
+        }
+    }
+
+    /// <summary>The nearest-rank percentile of sorted values (Hyndman and Fan 1996, definition 1).</summary>
+    internal static double Percentile(double[] sorted, double q) =>
+        sorted.Length == 0 ? double.NaN : sorted[Math.Clamp((int)Math.Ceiling(q * sorted.Length) - 1, 0, sorted.Length - 1)];
+
+    /// <summary>Sends every target's requests on its schedule for <paramref name="seconds"/>, then waits for the
+    /// answers still on their way.</summary>
+    static async Task<Tally[]> Poll(HttpClient http, List<Target> targets, List<AuthenticationHeaderValue?> auth,
+        double seconds, CancellationToken ct)
+    {
+        var tallies = targets.Select(t => new Tally((int)Math.Ceiling(t.Rate * seconds) + 1)).ToArray();
+        var sent = new long[targets.Count];
+        var inFlight = new List<Task>();
+        var start = Stopwatch.GetTimestamp();
+        var end = start + (long)(seconds * Stopwatch.Frequency);
+        while (true)
+        {
+            var now = Stopwatch.GetTimestamp();
+            for (var i = 0; i < targets.Count; i++)
+            {
+                var interval = Stopwatch.Frequency / targets[i].Rate;
+                for (long due; (due = start + (long)(sent[i] * interval)) <= now && due < end; sent[i]++)
+                    inFlight.Add(Send(http, targets[i].Path, auth[i], start, due, tallies[i], ct));
+            }
+            if (now >= end) break;
+            if (inFlight.Count > 4096) inFlight.RemoveAll(t => t.IsCompleted);
+            await Task.Delay(1, ct);   // a late wake-up only sends the due requests together; their latency counts it
+        }
+        await Task.WhenAll(inFlight);
+        for (var i = 0; i < targets.Count; i++) tallies[i].Scheduled = (int)sent[i];
+        return tallies;
+    }
+
+    static async Task Send(HttpClient http, string path, AuthenticationHeaderValue? auth, long start, long scheduled,
+        Tally tally, CancellationToken ct)
+    {
+        await Task.Yield();
+        try
+        {
+            using var request = new HttpRequestMessage(HttpMethod.Get, path);
+            request.Headers.Authorization = auth;
+            using var response = await http.SendAsync(request, HttpCompletionOption.ResponseContentRead, ct);
+            var body = await response.Content.ReadAsByteArrayAsync(ct);
+            var ms = Stopwatch.GetElapsedTime(scheduled).TotalMilliseconds;
+            if ((int)response.StatusCode != 200)
+            {
+                Fail(tally, $"{(int)response.StatusCode} from {path}");
+                return;
+            }
+            var slot = Interlocked.Increment(ref tally.Count) - 1;
+            tally.LatencyMs[slot] = ms;
+            tally.SentAtSeconds[slot] = (float)((scheduled - start) / (double)Stopwatch.Frequency);
+            Interlocked.Add(ref tally.Bytes, body.Length);
+        }
+        catch (Exception e) when (e is HttpRequestException or TaskCanceledException && !ct.IsCancellationRequested)
+        {
+            Fail(tally, $"{e.GetType().Name} from {path}: {e.Message}");
+        }
+    }
+
+    static void Fail(Tally tally, string why)
+    {
+        Interlocked.Increment(ref tally.Failed);
+        Interlocked.CompareExchange(ref tally.FirstFailure, why, null);
+    }
+}
