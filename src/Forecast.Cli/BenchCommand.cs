@@ -14,16 +14,38 @@ static class BenchCommand
         var key = BenchShared.KeyOption();
         var sizes = new Option<string>("--sizes") { Description = "batch sizes", DefaultValueFactory = _ => "1000,10000,100000" };
         var repeat = new Option<int>("--repeat") { Description = "batches per size", DefaultValueFactory = _ => 5 };
+        var continuous = new Option<bool>("--continuous")
+        {
+            Description = "post batches of the sizes in turn until stopped, a line per batch (its new and re-posted " +
+                "times) as each ends, instead of medians of --repeat",
+        };
         var command = new Command("bench-ingest", "Post synthetic event batches to a running API and report events/s")
         {
-            url, key, sizes, repeat,
+            url, key, sizes, repeat, continuous,
         };
         command.SetAction((parse, ct) => CliException.GuardAsync(async () =>
         {
             using var http = BenchShared.Client(parse.GetValue(url)!, parse.GetValue(key)!, TimeSpan.FromMinutes(5));
             var run = DateTime.UtcNow.Ticks.ToString(CultureInfo.InvariantCulture);
             Console.WriteLine("batch_size  new_median_s  new_events_per_s  repost_median_s  repost_events_per_s");
-            foreach (var size in parse.GetValue(sizes)!.Split(',').Select(s => int.Parse(s, CultureInfo.InvariantCulture)))
+            var sizeList = parse.GetValue(sizes)!.Split(',').Select(s => int.Parse(s, CultureInfo.InvariantCulture)).ToList();
+            if (parse.GetValue(continuous))
+            {
+                // One process for the whole run, so a load test does not pay a process start and its compilation
+                // per batch; stopped by a signal (Ctrl-C, SIGTERM), which ends the current batch's request.
+                for (var r = 0; !ct.IsCancellationRequested; r++)
+                {
+                    foreach (var size in sizeList)
+                    {
+                        var body = Batch($"b{run}-{size}-{r}", size);
+                        var fresh = await TimePost(http, body, ct);
+                        var repost = await TimePost(http, body, ct);
+                        PrintLine(size, fresh, repost);
+                    }
+                }
+                return 0;
+            }
+            foreach (var size in sizeList)
             {
                 var fresh = new List<double>();
                 var repost = new List<double>();
@@ -33,14 +55,16 @@ static class BenchCommand
                     fresh.Add(await TimePost(http, body, ct));
                     repost.Add(await TimePost(http, body, ct)); // identical: the idempotent path
                 }
-                double m1 = BenchShared.Median(fresh), m2 = BenchShared.Median(repost);
-                Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                    $"{size,10}  {m1,12:F3}  {size / m1,16:F0}  {m2,15:F3}  {size / m2,19:F0}"));
+                PrintLine(size, BenchShared.Median(fresh), BenchShared.Median(repost));
             }
             return 0;
         }));
         return command;
     }
+
+    static void PrintLine(int size, double freshSeconds, double repostSeconds) =>
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+            $"{size,10}  {freshSeconds,12:F3}  {size / freshSeconds,16:F0}  {repostSeconds,15:F3}  {size / repostSeconds,19:F0}"));
 
     static async Task<double> TimePost(HttpClient http, byte[] body, CancellationToken ct)
     {

@@ -1,7 +1,8 @@
 using System.CommandLine;
 using System.Diagnostics;
 using System.Globalization;
-using System.Net.Http.Headers;
+using System.Net.Sockets;
+using System.Text;
 
 namespace Forecast.Cli;
 
@@ -80,17 +81,25 @@ static class BenchPollCommand
     {
         if (!(duration > 0) || warmup < 0) throw new CliException("--duration must be positive and --warmup not negative.");
         if (connections < 1) throw new CliException("--connections must be at least 1.");
-        using var handler = new SocketsHttpHandler
+        var baseAddress = new Uri(url);
+        if (baseAddress.Scheme != "http") throw new CliException("--url must be an http:// address (no TLS here).");
+        var requests = targets.Select(t => PollConnection.Request(baseAddress, t.Path,
+            t.Path.StartsWith("/v1/public/", StringComparison.Ordinal) ? null : key)).ToArray();
+        var pool = Enumerable.Range(0, connections).Select(_ => new PollConnection(baseAddress.Host, baseAddress.Port)).ToList();
+        try
         {
-            MaxConnectionsPerServer = connections, UseCookies = false, PooledConnectionLifetime = Timeout.InfiniteTimeSpan,
-        };
-        using var http = new HttpClient(handler) { BaseAddress = new Uri(url), Timeout = TimeSpan.FromSeconds(10) };
-        var bearer = key is null ? null : new AuthenticationHeaderValue("Bearer", key);
-        var auth = targets.Select(t => t.Path.StartsWith("/v1/public/", StringComparison.Ordinal) ? null : bearer).ToList();
+            if (warmup > 0) await Poll(pool, targets, requests, warmup, ct);
+            var tallies = await Poll(pool, targets, requests, duration, ct);
+            return Report(targets, tallies, duration, timeline);
+        }
+        finally
+        {
+            foreach (var c in pool) c.Dispose();
+        }
+    }
 
-        if (warmup > 0) await Poll(http, targets, auth, warmup, ct);
-        var tallies = await Poll(http, targets, auth, duration, ct);
-
+    static int Report(List<Target> targets, Tally[] tallies, double duration, bool timeline)
+    {
         var failed = 0;
         foreach (var (t, tally) in targets.Zip(tallies))
         {
@@ -104,6 +113,8 @@ static class BenchPollCommand
             if (tally.FirstFailure is not null) Console.WriteLine($"{t.Name,-8} first failure: {tally.FirstFailure}");
             failed += tally.Failed + (tally.Scheduled - tally.Count - tally.Failed);
         }
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+            $"client   cpu {System.Diagnostics.Process.GetCurrentProcess().TotalProcessorTime.TotalSeconds:F1} s in all (warm-up included)"));
         if (timeline)
         {
             foreach (var (t, tally) in targets.Zip(tallies)) PrintTimeline(t.Name, tally);
@@ -126,15 +137,26 @@ static class BenchPollCommand
     internal static double Percentile(double[] sorted, double q) =>
         sorted.Length == 0 ? double.NaN : sorted[Math.Clamp((int)Math.Ceiling(q * sorted.Length) - 1, 0, sorted.Length - 1)];
 
-    /// <summary>Sends every target's requests on its schedule for <paramref name="seconds"/>, then waits for the
-    /// answers still on their way.</summary>
-    static async Task<Tally[]> Poll(HttpClient http, List<Target> targets, List<AuthenticationHeaderValue?> auth,
+    /// <summary>A request due at <see cref="Scheduled"/> (a Stopwatch timestamp).</summary>
+    readonly record struct Job(int Target, long Scheduled);
+
+    /// <summary>Sends every target's requests on its schedule for <paramref name="seconds"/>, then waits up to
+    /// 10 s for the answers still on their way. Each connection takes the next due request when it is free;
+    /// requests due while all are busy wait in the queue, and that wait is part of their latency.</summary>
+    static async Task<Tally[]> Poll(List<PollConnection> pool, List<Target> targets, byte[][] requests,
         double seconds, CancellationToken ct)
     {
         var tallies = targets.Select(t => new Tally((int)Math.Ceiling(t.Rate * seconds) + 1)).ToArray();
         var sent = new long[targets.Count];
-        var inFlight = new List<Task>();
+        var queue = System.Threading.Channels.Channel.CreateUnbounded<Job>(
+            new System.Threading.Channels.UnboundedChannelOptions { SingleWriter = true });
         var start = Stopwatch.GetTimestamp();
+        var workers = pool.Select(c => Task.Run(async () =>
+        {
+            await foreach (var job in queue.Reader.ReadAllAsync(ct))
+                await Send(c, requests[job.Target], start, job.Scheduled, tallies[job.Target], ct);
+        }, ct)).ToList();
+
         var end = start + (long)(seconds * Stopwatch.Frequency);
         while (true)
         {
@@ -143,41 +165,45 @@ static class BenchPollCommand
             {
                 var interval = Stopwatch.Frequency / targets[i].Rate;
                 for (long due; (due = start + (long)(sent[i] * interval)) <= now && due < end; sent[i]++)
-                    inFlight.Add(Send(http, targets[i].Path, auth[i], start, due, tallies[i], ct));
+                    queue.Writer.TryWrite(new Job(i, due));
             }
             if (now >= end) break;
-            if (inFlight.Count > 4096) inFlight.RemoveAll(t => t.IsCompleted);
             await Task.Delay(1, ct);   // a late wake-up only sends the due requests together; their latency counts it
         }
-        await Task.WhenAll(inFlight);
+        queue.Writer.Complete();
+        try
+        {
+            await Task.WhenAll(workers).WaitAsync(TimeSpan.FromSeconds(10), ct);
+        }
+        catch (TimeoutException)
+        {
+            foreach (var c in pool) c.Dispose();   // what is still unanswered counts as failed
+        }
         for (var i = 0; i < targets.Count; i++) tallies[i].Scheduled = (int)sent[i];
         return tallies;
     }
 
-    static async Task Send(HttpClient http, string path, AuthenticationHeaderValue? auth, long start, long scheduled,
-        Tally tally, CancellationToken ct)
+    static async Task Send(PollConnection connection, byte[] request, long start, long scheduled, Tally tally,
+        CancellationToken ct)
     {
-        await Task.Yield();
         try
         {
-            using var request = new HttpRequestMessage(HttpMethod.Get, path);
-            request.Headers.Authorization = auth;
-            using var response = await http.SendAsync(request, HttpCompletionOption.ResponseContentRead, ct);
-            var body = await response.Content.ReadAsByteArrayAsync(ct);
+            var (status, bodyBytes) = await connection.GetAsync(request, ct);
             var ms = Stopwatch.GetElapsedTime(scheduled).TotalMilliseconds;
-            if ((int)response.StatusCode != 200)
+            if (status != 200)
             {
-                Fail(tally, $"{(int)response.StatusCode} from {path}");
+                Fail(tally, $"{status} from {Encoding.ASCII.GetString(request).Split(' ')[1]}");
                 return;
             }
             var slot = Interlocked.Increment(ref tally.Count) - 1;
             tally.LatencyMs[slot] = ms;
             tally.SentAtSeconds[slot] = (float)((scheduled - start) / (double)Stopwatch.Frequency);
-            Interlocked.Add(ref tally.Bytes, body.Length);
+            Interlocked.Add(ref tally.Bytes, bodyBytes);
         }
-        catch (Exception e) when (e is HttpRequestException or TaskCanceledException && !ct.IsCancellationRequested)
+        catch (Exception e) when (e is HttpRequestException or SocketException or IOException or ObjectDisposedException
+                                  && !ct.IsCancellationRequested)
         {
-            Fail(tally, $"{e.GetType().Name} from {path}: {e.Message}");
+            Fail(tally, $"{e.GetType().Name} from {Encoding.ASCII.GetString(request).Split(' ')[1]}: {e.Message}");
         }
     }
 

@@ -134,19 +134,21 @@ public sealed class RenderedBodies(Microsoft.Extensions.Options.IOptions<Microso
 }
 
 /// <summary>The small reads that polling clients repeat, each shared by the callers asking it at the same time
-/// (<see cref="Coalescing{TKey, TValue}"/>), and reused for <see cref="PollingOptions.ReadReuse"/> after it began.
-/// </summary>
+/// (<see cref="Coalescing{TKey, TValue}"/>), reused for <see cref="PollingOptions.ReadReuse"/> after it began, and
+/// for <see cref="PollingOptions.RefreshWithin"/> more while one read refreshes it.</summary>
 /// <remarks>The endpoints that change a forecast through this process (compute, release, withdraw) call
 /// <see cref="Forget"/>, so their caller's next read is exact; a change made by another process (the refit worker
-/// of another instance, say) shows within the reuse time.</remarks>
+/// of another instance, say) shows within the reuse and refresh times.</remarks>
 public sealed class CoalescedReads(ForecastStore forecasts, SequenceStore sequences, IOptions<PollingOptions> polling)
 {
     /// <summary>At most this many active sequences are shown publicly (as in the public sequence list).</summary>
     public const int MaxPublicSequences = 500;
 
-    readonly Coalescing<long, ForecastVersion?> _latest = new(polling.Value.ReadReuse);
-    readonly Coalescing<long, (SequenceRow?, ForecastVersion?)> _released = new(polling.Value.ReadReuse);
-    readonly Coalescing<bool, (IReadOnlyList<SequenceRow>, IReadOnlyDictionary<long, int>)> _feed = new(polling.Value.ReadReuse);
+    readonly Coalescing<long, ForecastVersion?> _latest = new(polling.Value.ReadReuse, polling.Value.RefreshWithin);
+    readonly Coalescing<long, (SequenceRow?, ForecastVersion?)> _released =
+        new(polling.Value.ReadReuse, polling.Value.RefreshWithin);
+    readonly Coalescing<bool, (IReadOnlyList<SequenceRow>, IReadOnlyDictionary<long, int>)> _feed =
+        new(polling.Value.ReadReuse, polling.Value.RefreshWithin);
 
     /// <summary>Forgets what is known of the sequence's forecasts (and the feed), after this process changed them.</summary>
     public void Forget(long sequenceId)

@@ -10,15 +10,22 @@ namespace Forecast.Api.Infrastructure;
 /// per key; a caller waits at most about two query durations. Failures reach every caller of that read.
 /// With a <c>reuseFor</c> above zero, a caller arriving within that time of the start of the last successful
 /// read gets its answer at once: answers may then be that much older than the caller's request (and never more),
-/// which keeps a busy key from being re-read back to back. <see cref="Forget"/> drops a key's answer when the
-/// process itself changed what it reads.
+/// which keeps a busy key from being re-read back to back. With a <c>refreshWithin</c> above zero, a caller arriving
+/// later than that, but within <c>reuseFor + refreshWithin</c>, also gets the last answer at once while one read
+/// refreshes it in the background (the stale-while-revalidate of RFC 5861, 3): when the database is slow, pollers
+/// are not all held behind the one read they share. Answers are then at most <c>reuseFor + refreshWithin</c> older
+/// than the request. <see cref="Forget"/> drops a key's answer when the process itself changed what it reads, so
+/// neither reuse nor refresh ever hides the process's own writes.
 /// </remarks>
-public sealed class Coalescing<TKey, TValue>(TimeSpan reuseFor = default) where TKey : notnull
+public sealed class Coalescing<TKey, TValue>(TimeSpan reuseFor = default, TimeSpan refreshWithin = default)
+    where TKey : notnull
 {
     /// <summary>Expired answers are swept once more than this many are kept (keys may come from the public).</summary>
     const int SweepAbove = 1024;
 
     readonly long _reuseTicks = (long)(reuseFor.TotalSeconds * System.Diagnostics.Stopwatch.Frequency);
+    readonly long _keepTicks = (long)((reuseFor + (reuseFor > TimeSpan.Zero ? refreshWithin : TimeSpan.Zero)).TotalSeconds
+        * System.Diagnostics.Stopwatch.Frequency);
     readonly Dictionary<TKey, (long StartedAt, TValue Value)> _recent = [];
     // Bumped by Forget: a read that began before a Forget must not leave its answer for reuse.
     readonly Dictionary<TKey, long> _generation = [];
@@ -53,7 +60,7 @@ public sealed class Coalescing<TKey, TValue>(TimeSpan reuseFor = default) where 
         if (_recent.Count <= SweepAbove) return;
         var now = System.Diagnostics.Stopwatch.GetTimestamp();
         foreach (var (k, recent) in _recent.ToList())
-            if (now - recent.StartedAt > _reuseTicks) _recent.Remove(k);
+            if (now - recent.StartedAt > _keepTicks) _recent.Remove(k);
         // Generations only matter while a read is running; keys without one can start again from zero.
         foreach (var k in _generation.Keys.Where(k => !_slots.ContainsKey(k)).ToList()) _generation.Remove(k);
     }
@@ -71,12 +78,28 @@ public sealed class Coalescing<TKey, TValue>(TimeSpan reuseFor = default) where 
     {
         lock (_slots)
         {
-            if (_reuseTicks > 0 && _recent.TryGetValue(key, out var recent)
-                && System.Diagnostics.Stopwatch.GetTimestamp() - recent.StartedAt <= _reuseTicks)
+            Slot? slot;
+            if (_reuseTicks > 0 && _recent.TryGetValue(key, out var recent))
             {
-                return Task.FromResult(recent.Value);
+                var age = System.Diagnostics.Stopwatch.GetTimestamp() - recent.StartedAt;
+                if (age <= _reuseTicks) return Task.FromResult(recent.Value);
+                if (age <= _keepTicks)
+                {
+                    if (!_slots.ContainsKey(key))
+                    {
+                        // Refresh in the background; nobody waits for it, so its failure is only observed here
+                        // (the next caller past the refresh time reads for itself and gets the failure).
+                        _slots[key] = slot = new Slot();
+                        var refresh = NewAnswer();
+                        _ = refresh.Task.ContinueWith(static t => _ = t.Exception, CancellationToken.None,
+                            TaskContinuationOptions.OnlyOnFaulted | TaskContinuationOptions.ExecuteSynchronously,
+                            TaskScheduler.Default);
+                        _ = RunAsync(key, slot, refresh, read);
+                    }
+                    return Task.FromResult(recent.Value);
+                }
             }
-            if (_slots.TryGetValue(key, out var slot))
+            if (_slots.TryGetValue(key, out slot))
             {
                 slot.Next ??= (NewAnswer(), read);
                 return slot.Next.Value.Answer.Task.WaitAsync(ct);

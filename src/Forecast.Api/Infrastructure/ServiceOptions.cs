@@ -45,4 +45,10 @@ public sealed class PollingOptions
     /// later callers: answers are at most this much older than the request. Zero reads for every request (still
     /// coalescing concurrent ones). Changes made through this process are seen at once whatever the setting.</summary>
     [Range(typeof(TimeSpan), "00:00:00", "00:00:05")] public TimeSpan ReadReuse { get; init; } = TimeSpan.FromMilliseconds(200);
+
+    /// <summary>After <see cref="ReadReuse"/>, for this long more, callers still get the last answer at once while
+    /// one read refreshes it in the background, so a slow database does not hold every poller behind that read:
+    /// answers are then at most <see cref="ReadReuse"/> + this older than the request. Zero makes callers past
+    /// <see cref="ReadReuse"/> wait for a fresh read. No effect when <see cref="ReadReuse"/> is zero.</summary>
+    [Range(typeof(TimeSpan), "00:00:00", "00:00:05")] public TimeSpan RefreshWithin { get; init; } = TimeSpan.FromSeconds(1);
 }

@@ -126,4 +126,89 @@ public class CoalescingTests
         Assert.Equal(20, await after);
         Assert.Equal(2, read.Runs);
     }
+
+    [Fact]
+    public async Task WithinTheRefreshTimeTheLastAnswerIsGivenAtOnceWhileOneReadRefreshesIt()
+    {
+        // Stale-while-revalidate (RFC 5861, 3): past the 1 ms reuse time but within the 5 min refresh time.
+        var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMinutes(5));
+        var read = new GatedRead();
+        var first = c.GetAsync(1, read.Read, CancellationToken.None);
+        read.Gates[0].SetResult(10);
+        Assert.Equal(10, await first);
+        await Task.Delay(20);
+
+        var stale = c.GetAsync(1, read.Read, CancellationToken.None);
+        Assert.True(stale.IsCompletedSuccessfully);          // not held behind the refresh
+        Assert.Equal(10, await stale);
+        await read.Started[1].Task;                          // the refresh runs in the background
+        var during = c.GetAsync(1, read.Read, CancellationToken.None);
+        Assert.Equal(10, await during);                      // still the last answer
+        Assert.Equal(2, read.Runs);                          // and no second refresh while one runs
+        read.Gates[1].SetResult(20);
+        await WaitUntil(async () => await c.GetAsync(1, read.Read, CancellationToken.None) == 20);
+    }
+
+    [Fact]
+    public async Task PastTheRefreshTimeTheCallerWaitsForAFreshRead()
+    {
+        var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMilliseconds(1));
+        var read = new GatedRead();
+        var first = c.GetAsync(1, read.Read, CancellationToken.None);
+        read.Gates[0].SetResult(10);
+        Assert.Equal(10, await first);
+        await Task.Delay(50);   // well past 1 ms + 1 ms
+        var later = c.GetAsync(1, read.Read, CancellationToken.None);
+        await read.Started[1].Task;
+        Assert.False(later.IsCompleted);
+        read.Gates[1].SetResult(20);
+        Assert.Equal(20, await later);
+    }
+
+    [Fact]
+    public async Task AForgottenKeyIsNotServedFromItsOldAnswerWhileRefreshing()
+    {
+        var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMinutes(5));
+        var read = new GatedRead();
+        var first = c.GetAsync(1, read.Read, CancellationToken.None);
+        read.Gates[0].SetResult(10);
+        Assert.Equal(10, await first);
+        await Task.Delay(20);
+        c.Forget(1);            // this process changed what the read sees: its own change must show at once
+        var after = c.GetAsync(1, read.Read, CancellationToken.None);
+        await read.Started[1].Task;
+        Assert.False(after.IsCompleted);
+        read.Gates[1].SetResult(20);
+        Assert.Equal(20, await after);
+    }
+
+    [Fact]
+    public async Task AFailedRefreshLeavesTheLastAnswerUntilTheRefreshTimeEnds()
+    {
+        var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMilliseconds(300));
+        var read = new GatedRead();
+        var first = c.GetAsync(1, read.Read, CancellationToken.None);
+        read.Gates[0].SetResult(10);
+        Assert.Equal(10, await first);
+        await Task.Delay(20);
+        Assert.Equal(10, await c.GetAsync(1, read.Read, CancellationToken.None));
+        await read.Started[1].Task;
+        read.Gates[1].SetException(new TimeoutException("database away"));
+        Assert.Equal(10, await c.GetAsync(1, read.Read, CancellationToken.None));   // the failure reached nobody
+        await Task.Delay(400);  // past 1 ms + 300 ms: the caller reads for itself and gets the failure
+        var late = c.GetAsync(1, read.Read, CancellationToken.None);
+        await read.Started[2].Task;
+        read.Gates[2].SetException(new TimeoutException("still away"));
+        await Assert.ThrowsAsync<TimeoutException>(() => late);
+    }
+
+    static async Task WaitUntil(Func<Task<bool>> condition)
+    {
+        for (var i = 0; i < 200; i++)
+        {
+            if (await condition()) return;
+            await Task.Delay(10);
+        }
+        Assert.Fail("the condition did not hold within 2 s");
+    }
 }
