@@ -132,11 +132,7 @@ public class CoalescingTests
     {
         // Stale-while-revalidate (RFC 5861, 3): past the 1 ms reuse time but within the 5 min refresh time.
         var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMinutes(5));
-        var read = new GatedRead();
-        var first = c.GetAsync(1, read.Read, CancellationToken.None);
-        read.Gates[0].SetResult(10);
-        Assert.Equal(10, await first);
-        await Task.Delay(20);
+        var read = await AnsweredOnce(c, TimeSpan.FromMilliseconds(20));
 
         var stale = c.GetAsync(1, read.Read, CancellationToken.None);
         Assert.True(stale.IsCompletedSuccessfully);          // not held behind the refresh
@@ -153,11 +149,7 @@ public class CoalescingTests
     public async Task PastTheRefreshTimeTheCallerWaitsForAFreshRead()
     {
         var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMilliseconds(1));
-        var read = new GatedRead();
-        var first = c.GetAsync(1, read.Read, CancellationToken.None);
-        read.Gates[0].SetResult(10);
-        Assert.Equal(10, await first);
-        await Task.Delay(50);   // well past 1 ms + 1 ms
+        var read = await AnsweredOnce(c, TimeSpan.FromMilliseconds(50));   // well past 1 ms + 1 ms
         var later = c.GetAsync(1, read.Read, CancellationToken.None);
         await read.Started[1].Task;
         Assert.False(later.IsCompleted);
@@ -169,11 +161,7 @@ public class CoalescingTests
     public async Task AForgottenKeyIsNotServedFromItsOldAnswerWhileRefreshing()
     {
         var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMinutes(5));
-        var read = new GatedRead();
-        var first = c.GetAsync(1, read.Read, CancellationToken.None);
-        read.Gates[0].SetResult(10);
-        Assert.Equal(10, await first);
-        await Task.Delay(20);
+        var read = await AnsweredOnce(c, TimeSpan.FromMilliseconds(20));
         c.Forget(1);            // this process changed what the read sees: its own change must show at once
         var after = c.GetAsync(1, read.Read, CancellationToken.None);
         await read.Started[1].Task;
@@ -186,11 +174,7 @@ public class CoalescingTests
     public async Task AFailedRefreshLeavesTheLastAnswerUntilTheRefreshTimeEnds()
     {
         var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMilliseconds(300));
-        var read = new GatedRead();
-        var first = c.GetAsync(1, read.Read, CancellationToken.None);
-        read.Gates[0].SetResult(10);
-        Assert.Equal(10, await first);
-        await Task.Delay(20);
+        var read = await AnsweredOnce(c, TimeSpan.FromMilliseconds(20));
         Assert.Equal(10, await c.GetAsync(1, read.Read, CancellationToken.None));
         await read.Started[1].Task;
         read.Gates[1].SetException(new TimeoutException("database away"));
@@ -200,6 +184,17 @@ public class CoalescingTests
         await read.Started[2].Task;
         read.Gates[2].SetException(new TimeoutException("still away"));
         await Assert.ThrowsAsync<TimeoutException>(() => late);
+    }
+
+    /// <summary>Key 1 read once (answer 10), then <paramref name="wait"/> passed.</summary>
+    static async Task<GatedRead> AnsweredOnce(Coalescing<int, int> c, TimeSpan wait)
+    {
+        var read = new GatedRead();
+        var first = c.GetAsync(1, read.Read, CancellationToken.None);
+        read.Gates[0].SetResult(10);
+        Assert.Equal(10, await first);
+        await Task.Delay(wait);
+        return read;
     }
 
     static async Task WaitUntil(Func<Task<bool>> condition)
