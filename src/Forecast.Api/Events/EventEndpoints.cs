@@ -14,6 +14,8 @@ public static class EventEndpoints
 {
     const int ItemsListedUpTo = 1_000;
     const int MaxPageSize = 1_000;
+    /// <summary>Batches of more events than this are checked and staged on a thread of their own.</summary>
+    const int OwnThreadAbove = 1_000;
 
     public static RouteGroupBuilder MapEvents(this IEndpointRouteBuilder app)
     {
@@ -106,7 +108,7 @@ public static class EventEndpoints
             // one of the few threads that answer every other request (docs/PERFORMANCE.md, "Load").
             await using var batch = await store.BeginBatchAsync(ct);
             var now = clock.GetUtcNow().UtcDateTime;
-            var parsed = root.ValueKind == JsonValueKind.Array && root.GetArrayLength() > ItemsListedUpTo
+            var parsed = root.ValueKind == JsonValueKind.Array && root.GetArrayLength() > OwnThreadAbove
                 ? await Task.Factory.StartNew(() => EventJson.Read(root, now, batch.Add), CancellationToken.None,
                     TaskCreationOptions.LongRunning, TaskScheduler.Default)
                 : EventJson.Read(root, now, batch.Add);
