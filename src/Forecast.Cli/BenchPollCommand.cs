@@ -85,17 +85,9 @@ static class BenchPollCommand
         if (baseAddress.Scheme != "http") throw new CliException("--url must be an http:// address (no TLS here).");
         var requests = targets.Select(t => PollConnection.Request(baseAddress, t.Path,
             t.Path.StartsWith("/v1/public/", StringComparison.Ordinal) ? null : key)).ToArray();
-        var pool = Enumerable.Range(0, connections).Select(_ => new PollConnection(baseAddress.Host, baseAddress.Port)).ToList();
-        try
-        {
-            if (warmup > 0) await Poll(pool, targets, requests, warmup, ct);
-            var tallies = await Poll(pool, targets, requests, duration, ct);
-            return Report(targets, tallies, duration, timeline);
-        }
-        finally
-        {
-            foreach (var c in pool) c.Dispose();
-        }
+        if (warmup > 0) await Poll(baseAddress, connections, targets, requests, warmup, ct);
+        var tallies = await Poll(baseAddress, connections, targets, requests, duration, ct);
+        return Report(targets, tallies, duration, timeline);
     }
 
     static int Report(List<Target> targets, Tally[] tallies, double duration, bool timeline)
@@ -105,13 +97,14 @@ static class BenchPollCommand
         {
             var ms = tally.LatencyMs.AsSpan(0, tally.Count).ToArray();
             Array.Sort(ms);
+            var unanswered = tally.Scheduled - tally.Count - tally.Failed;
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                $"{t.Name,-8} offered {t.Rate,6:F0}/s  answered {tally.Count / duration,7:F0}/s  ({tally.Count} ok of {tally.Scheduled} sent, {tally.Failed} failed)  " +
+                $"{t.Name,-8} offered {t.Rate,6:F0}/s  answered {tally.Count / duration,7:F0}/s  ({tally.Count} ok of {tally.Scheduled} sent, {tally.Failed} failed, {unanswered} unanswered)  " +
                 $"p50 {Percentile(ms, 0.50):F2} ms  p90 {Percentile(ms, 0.90):F2} ms  p99 {Percentile(ms, 0.99):F2} ms  " +
                 $"p99.9 {Percentile(ms, 0.999):F2} ms  max {(ms.Length > 0 ? ms[^1] : double.NaN):F2} ms  " +
                 $"{(tally.Count > 0 ? tally.Bytes / tally.Count : 0)} bytes"));
             if (tally.FirstFailure is not null) Console.WriteLine($"{t.Name,-8} first failure: {tally.FirstFailure}");
-            failed += tally.Failed + (tally.Scheduled - tally.Count - tally.Failed);
+            failed += tally.Failed + unanswered;
         }
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
             $"client   cpu {System.Diagnostics.Process.GetCurrentProcess().TotalProcessorTime.TotalSeconds:F1} s in all (warm-up included)"));
@@ -143,19 +136,22 @@ static class BenchPollCommand
     /// <summary>Sends every target's requests on its schedule for <paramref name="seconds"/>, then waits up to
     /// 10 s for the answers still on their way. Each connection takes the next due request when it is free;
     /// requests due while all are busy wait in the queue, and that wait is part of their latency.</summary>
-    static async Task<Tally[]> Poll(List<PollConnection> pool, List<Target> targets, byte[][] requests,
+    static async Task<Tally[]> Poll(Uri baseAddress, int connections, List<Target> targets, byte[][] requests,
         double seconds, CancellationToken ct)
     {
         var tallies = targets.Select(t => new Tally((int)Math.Ceiling(t.Rate * seconds) + 1)).ToArray();
         var sent = new long[targets.Count];
         var queue = System.Threading.Channels.Channel.CreateUnbounded<Job>(
             new System.Threading.Channels.UnboundedChannelOptions { SingleWriter = true });
+        // Each phase has its own connections and its own token, so nothing of a phase outlives it.
+        using var phase = CancellationTokenSource.CreateLinkedTokenSource(ct);
+        var pool = Enumerable.Range(0, connections).Select(_ => new PollConnection(baseAddress.Host, baseAddress.Port)).ToList();
         var start = Stopwatch.GetTimestamp();
         var workers = pool.Select(c => Task.Run(async () =>
         {
-            await foreach (var job in queue.Reader.ReadAllAsync(ct))
-                await Send(c, requests[job.Target], start, job.Scheduled, tallies[job.Target], ct);
-        }, ct)).ToList();
+            await foreach (var job in queue.Reader.ReadAllAsync(phase.Token))
+                await Send(c, requests[job.Target], start, job.Scheduled, tallies[job.Target], phase.Token);
+        }, CancellationToken.None)).ToList();
 
         var end = start + (long)(seconds * Stopwatch.Frequency);
         while (true)
@@ -171,24 +167,24 @@ static class BenchPollCommand
             await Task.Delay(1, ct);   // a late wake-up only sends the due requests together; their latency counts it
         }
         queue.Writer.Complete();
-        try
+        var all = Task.WhenAll(workers);
+        if (await Task.WhenAny(all, Task.Delay(TimeSpan.FromSeconds(10), ct)) != all)
         {
-            await Task.WhenAll(workers).WaitAsync(TimeSpan.FromSeconds(10), ct);
+            phase.Cancel();   // what is still unanswered after 10 s is counted as unanswered
+            foreach (var c in pool) c.Dispose();
         }
-        catch (TimeoutException)
-        {
-            foreach (var c in pool) c.Dispose();   // what is still unanswered counts as failed
-        }
+        try { await all; } catch (OperationCanceledException) when (phase.IsCancellationRequested) { }
+        foreach (var c in pool) c.Dispose();
         for (var i = 0; i < targets.Count; i++) tallies[i].Scheduled = (int)sent[i];
         return tallies;
     }
 
     static async Task Send(PollConnection connection, byte[] request, long start, long scheduled, Tally tally,
-        CancellationToken ct)
+        CancellationToken phase)
     {
         try
         {
-            var (status, bodyBytes) = await connection.GetAsync(request, ct);
+            var (status, bodyBytes) = await connection.GetAsync(request, phase);
             var ms = Stopwatch.GetElapsedTime(scheduled).TotalMilliseconds;
             if (status != 200)
             {
@@ -200,8 +196,11 @@ static class BenchPollCommand
             tally.SentAtSeconds[slot] = (float)((scheduled - start) / (double)Stopwatch.Frequency);
             Interlocked.Add(ref tally.Bytes, bodyBytes);
         }
-        catch (Exception e) when (e is HttpRequestException or SocketException or IOException or ObjectDisposedException
-                                  && !ct.IsCancellationRequested)
+        catch (Exception) when (phase.IsCancellationRequested)
+        {
+            // the phase was stopped: the request stays unanswered
+        }
+        catch (Exception e)
         {
             Fail(tally, $"{e.GetType().Name} from {Encoding.ASCII.GetString(request).Split(' ')[1]}: {e.Message}");
         }

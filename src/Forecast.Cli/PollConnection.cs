@@ -45,6 +45,15 @@ sealed class PollConnection(string host, int port) : IDisposable
 
     async Task<(int, long)> ReadAnswerAsync(CancellationToken ct)
     {
+        while (true)
+        {
+            var (status, body) = await ReadOneAnswerAsync(ct);
+            if (status >= 200) return (status, body);   // 1xx answers are interim (RFC 9110, 15.2)
+        }
+    }
+
+    async Task<(int, long)> ReadOneAnswerAsync(CancellationToken ct)
+    {
         int headEnd;
         while ((headEnd = _buffer.AsSpan(_start, _end - _start).IndexOf("\r\n\r\n"u8)) < 0) await FillAsync(ct);
         var head = Encoding.ASCII.GetString(_buffer, _start, headEnd);
@@ -65,7 +74,8 @@ sealed class PollConnection(string host, int port) : IDisposable
             if (colon <= 0) continue;
             var name = line.AsSpan(0, colon).Trim();
             var value = line.AsSpan(colon + 1).Trim();
-            if (name.Equals("Content-Length", StringComparison.OrdinalIgnoreCase)) length = long.Parse(value);
+            if (name.Equals("Content-Length", StringComparison.OrdinalIgnoreCase))
+                length = long.TryParse(value, out var n) && n >= 0 ? n : throw new HttpRequestException($"a bad Content-Length: {line}");
             else if (name.Equals("Transfer-Encoding", StringComparison.OrdinalIgnoreCase))
                 chunked = value.Contains("chunked", StringComparison.OrdinalIgnoreCase);
             else if (name.Equals("Connection", StringComparison.OrdinalIgnoreCase))
@@ -73,11 +83,17 @@ sealed class PollConnection(string host, int port) : IDisposable
         }
 
         long body = 0;
-        if (chunked)
+        if (status is < 200 or 204 or 304)
+        {
+            // no body, whatever the headers say (RFC 9112, 6.3)
+        }
+        else if (chunked)
         {
             while (true)
             {
-                var size = Convert.ToInt64((await ReadLineAsync(ct)).Split(';')[0].Trim(), 16);
+                var sizeText = (await ReadLineAsync(ct)).Split(';')[0].Trim();
+                if (!long.TryParse(sizeText, System.Globalization.NumberStyles.AllowHexSpecifier, null, out var size) || size < 0)
+                    throw new HttpRequestException($"a bad chunk size: {sizeText}");
                 if (size == 0)
                 {
                     while ((await ReadLineAsync(ct)).Length > 0) { }   // trailer fields, then the empty line
@@ -93,7 +109,7 @@ sealed class PollConnection(string host, int port) : IDisposable
             await SkipAsync(n, ct);
             body = n;
         }
-        else if (status is not (204 or 304) && status >= 200)
+        else
         {
             throw new HttpRequestException("an answer without Content-Length or chunked encoding");
         }

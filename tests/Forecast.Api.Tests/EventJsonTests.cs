@@ -40,6 +40,16 @@ public class EventJsonTests
         Assert.Equal(("zz", "e1", 3.2, "reviewed"), (e.Source, e.EventId, e.Magnitude, e.Status));
     }
 
+    [Theory]
+    [InlineData("id", "\"a\\uD800b\"")]      // an unpaired high surrogate (RFC 8259, 8.2)
+    [InlineData("source", "\"\\uDC00\"")]    // an unpaired low surrogate
+    public void AnUnpairedSurrogateEscapeIsABadFieldNotAFailure(string field, string valueJson)
+    {
+        var parsed = Read(Good.Replace($"\"{field}\": \"{(field == "id" ? "e1" : "zz")}\"", $"\"{field}\": {valueJson}"));
+        Assert.Empty(parsed.Events);
+        Assert.NotEmpty(parsed.Errors);
+    }
+
     [Fact]
     public void GoodEventsAreHandedOnOnlyUntilTheFirstBadOne()
     {

@@ -100,7 +100,7 @@ public sealed class BenchPollCommandTests : IDisposable
         var run = CliRunner.Forecast("bench-poll", "--url", _url, "--target", "ok=/ok@200", "--duration", "1",
             "--warmup", "0");
         Assert.True(run.ExitCode == 0, run.Stdout + run.Stderr);
-        Assert.Contains("(200 ok of 200 sent, 0 failed)", run.Stdout);
+        Assert.Contains("(200 ok of 200 sent, 0 failed, 0 unanswered)", run.Stdout);
         Assert.Equal(200, _requests);
     }
 
@@ -126,9 +126,9 @@ public sealed class BenchPollCommandTests : IDisposable
         var run = CliRunner.Forecast("bench-poll", "--url", _url, "--target", "ok=/ok@50", "--target", "bad=/fail@20",
             "--duration", "1", "--warmup", "0");
         Assert.Equal(1, run.ExitCode);
-        Assert.Contains("(0 ok of 20 sent, 20 failed)", run.Stdout);
+        Assert.Contains("(0 ok of 20 sent, 20 failed, 0 unanswered)", run.Stdout);
         Assert.Contains("bad      first failure: 500 from /fail", run.Stdout);
-        Assert.Contains("(50 ok of 50 sent, 0 failed)", run.Stdout);
+        Assert.Contains("(50 ok of 50 sent, 0 failed, 0 unanswered)", run.Stdout);
     }
 
     [Theory]

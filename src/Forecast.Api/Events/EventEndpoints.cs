@@ -108,10 +108,15 @@ public static class EventEndpoints
             // one of the few threads that answer every other request (docs/PERFORMANCE.md, "Load").
             await using var batch = await store.BeginBatchAsync(ct);
             var now = clock.GetUtcNow().UtcDateTime;
+            void Stage(Forecast.Storage.Events.EventInput e)
+            {
+                ct.ThrowIfCancellationRequested();   // the client left or the request timed out: stop, roll back
+                batch.Add(e);
+            }
             var parsed = root.ValueKind == JsonValueKind.Array && root.GetArrayLength() > OwnThreadAbove
-                ? await Task.Factory.StartNew(() => EventJson.Read(root, now, batch.Add), CancellationToken.None,
+                ? await Task.Factory.StartNew(() => EventJson.Read(root, now, Stage), CancellationToken.None,
                     TaskCreationOptions.LongRunning, TaskScheduler.Default)
-                : EventJson.Read(root, now, batch.Add);
+                : EventJson.Read(root, now, Stage);
             if (parsed.Errors.Count > 0)
             {
                 var detail = parsed.IsArray

@@ -67,6 +67,12 @@ public static class EventJson
             Add(errors, at.TrimEnd('.'), "holds text that is not valid UTF-8 (RFC 8259, 8.1; RFC 3629, 3)");
             return null;
         }
+        catch (InvalidOperationException e) when (e.Message.Contains("UTF-16", StringComparison.Ordinal))
+        {
+            // An escape of half a surrogate pair (\uD800 alone) names no character (RFC 8259, 8.2).
+            Add(errors, at.TrimEnd('.'), "holds an escape of an unpaired surrogate (RFC 8259, 8.2), which is no character");
+            return null;
+        }
     }
 
     static EventInput? ReadFields(JsonElement item, string at, DateTime nowUtc, Dictionary<string, string[]> errors)
