@@ -1,7 +1,6 @@
 using System.CommandLine;
 using System.Diagnostics;
 using System.Globalization;
-using System.Net.Sockets;
 using System.Text;
 
 namespace Forecast.Cli;
