@@ -150,11 +150,7 @@ public class CoalescingTests
     {
         var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMilliseconds(1));
         var read = await AnsweredOnce(c, TimeSpan.FromMilliseconds(50));   // well past 1 ms + 1 ms
-        var later = c.GetAsync(1, read.Read, CancellationToken.None);
-        await read.Started[1].Task;
-        Assert.False(later.IsCompleted);
-        read.Gates[1].SetResult(20);
-        Assert.Equal(20, await later);
+        await AssertTheNextCallerWaitsForAFreshRead(c, read);
     }
 
     [Fact]
@@ -163,11 +159,7 @@ public class CoalescingTests
         var c = new Coalescing<int, int>(TimeSpan.FromMilliseconds(1), TimeSpan.FromMinutes(5));
         var read = await AnsweredOnce(c, TimeSpan.FromMilliseconds(20));
         c.Forget(1);            // this process changed what the read sees: its own change must show at once
-        var after = c.GetAsync(1, read.Read, CancellationToken.None);
-        await read.Started[1].Task;
-        Assert.False(after.IsCompleted);
-        read.Gates[1].SetResult(20);
-        Assert.Equal(20, await after);
+        await AssertTheNextCallerWaitsForAFreshRead(c, read);
     }
 
     [Fact]
@@ -194,6 +186,17 @@ public class CoalescingTests
         Assert.Equal(10, await first);
         await Task.Delay(wait);
         return read;
+    }
+
+    /// <summary>The next caller of key 1 is not answered from before: it waits for read 2, and gets its answer.
+    /// </summary>
+    static async Task AssertTheNextCallerWaitsForAFreshRead(Coalescing<int, int> c, GatedRead read)
+    {
+        var next = c.GetAsync(1, read.Read, CancellationToken.None);
+        await read.Started[1].Task;
+        Assert.False(next.IsCompleted);
+        read.Gates[1].SetResult(20);
+        Assert.Equal(20, await next);
     }
 
     static async Task WaitUntil(Func<Task<bool>> condition)
