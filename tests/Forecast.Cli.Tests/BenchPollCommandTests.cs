@@ -41,7 +41,7 @@ public sealed class BenchPollCommandTests : IDisposable
     }
 
     /// <summary>Answers one connection's requests in turn: /ok with a chunked body, /fail with a 500 and an empty
-    /// body, /stall with "ok" (after the stall while it is on).</summary>
+    /// body, /stall with "ok" (after the stall while it is on); /hang is never answered.</summary>
     async Task ServeAsync(TcpClient client)
     {
         using var _ = client;
@@ -66,6 +66,7 @@ public sealed class BenchPollCommandTests : IDisposable
                 Interlocked.CompareExchange(ref _firstTick, System.Diagnostics.Stopwatch.GetTimestamp(), 0);
                 Interlocked.Increment(ref _requests);
                 string answer;
+                if (path == "/hang") await Task.Delay(Timeout.Infinite, _stop.Token);   // never answers
                 if (path == "/fail") answer = "HTTP/1.1 500 Internal Server Error\r\nContent-Length: 0\r\n\r\n";
                 else if (path == "/ok") answer = "HTTP/1.1 200 OK\r\nTransfer-Encoding: chunked\r\n\r\n1\r\no\r\n1\r\nk\r\n0\r\n\r\n";
                 else
@@ -118,6 +119,32 @@ public sealed class BenchPollCommandTests : IDisposable
         // Only lower bounds are asserted: a loaded machine can only make latencies longer.
         Assert.True(Field(line, "p90") >= 150, line);
         Assert.True(Field(line, "max") >= 250, line);
+    }
+
+    [Fact]
+    public void RequestsDueWhileEveryConnectionIsBusyWaitAndAreAllAnswered()
+    {
+        // Two connections and the 0.3 s stall: requests falling due during it queue behind the two held ones, are
+        // sent in turn when those are answered, and their wait counts in their latency, as in the test above.
+        var run = CliRunner.Forecast("bench-poll", "--url", _url, "--target", "stall=/stall@200", "--duration", "1",
+            "--warmup", "1", "--connections", "2");
+        Assert.True(run.ExitCode == 0, run.Stdout + run.Stderr);
+        Assert.Contains("(200 ok of 200 sent, 0 failed, 0 unanswered)", run.Stdout);
+        Assert.Equal(400, _requests);   // the warm-up's 200 and the run's 200, each sent once
+        var line = run.Stdout.Split('\n').Single(l => l.StartsWith("stall", StringComparison.Ordinal) && l.Contains("p50"));
+        Assert.True(Field(line, "p90") >= 150, line);
+    }
+
+    [Fact]
+    public void RequestsStillUnansweredTenSecondsAfterTheRunAreCountedAndFail()
+    {
+        // 10 requests on 4 connections to a server that never answers: 4 are sent and wait, 6 wait for a
+        // connection; after the run's 0.5 s and the 10 s allowed for answers, all 10 are unanswered.
+        var run = CliRunner.Forecast("bench-poll", "--url", _url, "--target", "hang=/hang@20", "--duration", "0.5",
+            "--warmup", "0", "--connections", "4");
+        Assert.Equal(1, run.ExitCode);
+        Assert.Contains("(0 ok of 10 sent, 0 failed, 10 unanswered)", run.Stdout);
+        Assert.Equal(4, _requests);
     }
 
     [Fact]
