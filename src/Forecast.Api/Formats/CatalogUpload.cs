@@ -20,6 +20,36 @@ public static class CatalogUpload
     /// <summary>At most this much of the body waits in memory for the reader.</summary>
     const int PipeBytes = 1024 * 1024;
 
+    /// <summary>Copies the body into the reader's pipe and, once the reader has stopped (a fatal problem, or too many
+    /// events), reads the rest of the body and drops it, so the client finishes sending and gets the answer on a
+    /// connection that stays usable.</summary>
+    /// <remarks>Kestrel would drain an unread body after the answer too, but PipeReader.CopyToAsync into a pipe whose
+    /// reader completed on another thread sometimes left Kestrel's body reader broken (ArgumentOutOfRangeException in
+    /// AdvanceTo, then "reading is already in progress" in the drain), and the connection was reset while the client was
+    /// still sending. The body is bounded by the size limit set above, so the drain is bounded too.</remarks>
+    static async Task ForwardAsync(System.IO.Pipelines.PipeReader body, System.IO.Pipelines.PipeWriter into,
+        CancellationToken ct)
+    {
+        var forwarding = true;
+        while (true)
+        {
+            var result = await body.ReadAsync(ct);
+            var buffer = result.Buffer;
+            if (forwarding)
+            {
+                foreach (var segment in buffer)
+                {
+                    var flushed = await into.WriteAsync(segment, ct);
+                    if (!flushed.IsCompleted) continue;
+                    forwarding = false;
+                    break;
+                }
+            }
+            body.AdvanceTo(buffer.End);
+            if (result.IsCompleted) return;
+        }
+    }
+
     /// <summary>A batch staged from a good document (commit it), or the problem that refuses the document.</summary>
     public sealed record Staged(EventBatch? Batch, ValidationProblem? Invalid, ProblemHttpResult? Problem);
 
@@ -69,7 +99,7 @@ public static class CatalogUpload
         Exception? upload = null;
         try
         {
-            await request.BodyReader.CopyToAsync(pipe.Writer, ct);
+            await ForwardAsync(request.BodyReader, pipe.Writer, ct);
         }
         catch (Exception e)
         {
