@@ -4,7 +4,9 @@ using Forecast.Api.Infrastructure;
 using Forecast.Core.ReasenbergJones;
 using Forecast.Storage.Forecasts;
 using Forecast.Storage.Sequences;
+using Forecast.Api.Sequences;
 using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.Extensions.Options;
 
 namespace Forecast.Api.Forecasts;
 
@@ -26,7 +28,10 @@ public static class ForecastEndpoints
         group.MapPost("/", Compute).WithName("ComputeForecast").RequireAuthorization(Policies.Analyst)
             .WithSummary("Compute a forecast now (a draft), optionally with issue time, Mc, fit start, prior, windows, thresholds");
         group.MapPost("/{number:int}/release", Release).WithName("ReleaseForecast").RequireAuthorization(Policies.Analyst)
-            .WithSummary("Release a draft, optionally with an edited advisory (the edit is kept beside the generated text)");
+            .WithSummary("Release a draft, optionally with an edited advisory (the edit is kept beside the generated text)")
+            .WithDescription("An edited advisory may reword and add, but must keep word for word every statement of a " +
+                "chance with its numbers and every standing caution of the generated text (white space may differ), " +
+                "and the exercise marker on a drill; otherwise 400 names each missing part.");
         group.MapPost("/{number:int}/withdraw", Withdraw).WithName("WithdrawForecast").RequireAuthorization(Policies.Analyst)
             .WithSummary("Withdraw a forecast: it is never shown publicly again");
         return group;
@@ -124,7 +129,7 @@ public static class ForecastEndpoints
 
     static async Task<Results<Ok<ForecastView>, ValidationProblem, ProblemHttpResult>> Release(
         long id, int number, ReleaseRequest? body, HttpContext http, ForecastStore store, CoalescedReads reads,
-        CancellationToken ct)
+        IOptions<ForecastOptions> options, CancellationToken ct)
     {
         var text = body?.AdvisoryText;
         if (text is not null && (string.IsNullOrWhiteSpace(text) || text.Length > MaxAdvisoryChars || HasControl(text)))
@@ -143,6 +148,15 @@ public static class ForecastEndpoints
             {
                 ["advisoryText"] = [$"is for an exercise and must keep the marker '{Core.Advisory.AdvisoryBuilder.ExerciseMarker}'"],
             }, "The forecast was not released.");
+        }
+        if (text is not null && Core.Advisory.AdvisoryBuilder.MissingFromEdit(text, current.AdvisoryText,
+                options.Value.AgencyName) is { Count: > 0 } missing)
+        {
+            return Problems.Invalid(new Dictionary<string, string[]>
+            {
+                ["advisoryText"] = [.. missing.Select(part => $"must keep, word for word, \"{part}\"")],
+            }, "The forecast was not released: an edited advisory may reword and add, but must keep every statement " +
+               "of a chance with its numbers and every standing caution of the generated one.");
         }
         var outcome = await store.ReleaseAsync(id, number, text, Policies.KeyId(http.User), ct);
         reads.Forget(id);

@@ -57,7 +57,8 @@ public sealed record ComputeRequest(
     string? IssueTime, double? Mc, double? FitStartDays, string? ParameterSet, double[]? WindowDays,
     double[]? Thresholds);
 
-/// <summary>The body of a release: an edited advisory text, when the analyst changed the generated one.</summary>
+/// <summary>The body of a release: an edited advisory text, when the analyst changed the generated one. It must keep
+/// every statement and caution of the generated text (<see cref="Core.Advisory.AdvisoryBuilder.MissingFromEdit"/>).</summary>
 public sealed record ReleaseRequest(string? AdvisoryText);
 
 public sealed record WithdrawRequest(string? Reason);

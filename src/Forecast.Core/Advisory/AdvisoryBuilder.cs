@@ -64,6 +64,26 @@ public static class AdvisoryBuilder
         ];
     }
 
+    /// <summary>The parts of a generated advisory that an edited one leaves out: each statement of a chance and
+    /// number (the lines <see cref="Build"/> starts with "- ") and each standing caution.</summary>
+    /// <remarks>A duty seismologist may reword and add around them, but a published advisory keeps every number
+    /// and every caution. Runs of white space compare as one space, so an edit may rewrap the lines.</remarks>
+    public static IReadOnlyList<string> MissingFromEdit(string edited, string generatedText, string agencyName)
+    {
+        ArgumentNullException.ThrowIfNull(edited);
+        ArgumentNullException.ThrowIfNull(generatedText);
+        var statements = generatedText.Split('\n')
+            .Select(l => l.TrimEnd('\r'))
+            .Where(l => l.StartsWith("- ", StringComparison.Ordinal))
+            .Select(l => l[2..]);
+        var kept = Squeeze(edited);
+        return statements.Concat(Cautions(agencyName))
+            .Where(part => !kept.Contains(Squeeze(part), StringComparison.Ordinal))
+            .ToList();
+    }
+
+    static string Squeeze(string text) => string.Join(' ', text.Split((char[]?)null, StringSplitOptions.RemoveEmptyEntries));
+
     /// <summary>The advisory for <paramref name="input"/>.</summary>
     /// <exception cref="ArgumentException">No agency name, no cells, or a cell with an impossible number.</exception>
     public static AdvisoryText Build(AdvisoryInput input)

@@ -94,10 +94,23 @@ public class PublicForecastTests(SequenceApiServer api) : IClassFixture<Sequence
         using var _ = analyst;
         var one = (await Flow.LatestAsync(analyst, id, _ => true)).GetProperty("number").GetInt32();
         await analyst.PostAsync($"/v1/sequences/{id}/forecasts/{one}/release", null);
-        var two = (await (await analyst.PostAsJsonAsync($"/v1/sequences/{id}/forecasts", new { }))
-            .Content.ReadFromJsonAsync<JsonElement>()).GetProperty("number").GetInt32();
+        var draft = await (await analyst.PostAsJsonAsync($"/v1/sequences/{id}/forecasts", new { }))
+            .Content.ReadFromJsonAsync<JsonElement>();
+        var two = draft.GetProperty("number").GetInt32();
+        var generated = draft.GetProperty("advisory").GetProperty("text").GetString()!;
 
-        var edited = "Edited by the duty seismologist. " + AdvisoryBuilder.Cautions("the Test Seismic Service")[0];
+        // An edit that drops the numbers is refused, naming each statement it left out, and changes nothing.
+        var bare = await analyst.PostAsJsonAsync($"/v1/sequences/{id}/forecasts/{two}/release",
+            new { advisoryText = "Edited by the duty seismologist. " + AdvisoryBuilder.Cautions("the Test Seismic Service")[0] });
+        var refused = await bare.Content.ReadFromJsonAsync<JsonElement>();
+        Assert.Equal(HttpStatusCode.BadRequest, bare.StatusCode);
+        var reasons = refused.GetProperty("errors").GetProperty("advisoryText").EnumerateArray().Select(e => e.GetString()!).ToList();
+        Assert.Equal(generated.Split('\n').Count(l => l.StartsWith("- ", StringComparison.Ordinal)) + 3, reasons.Count);
+        Assert.All(reasons, r => Assert.StartsWith("must keep, word for word, ", r));
+        Assert.Equal("draft", (await analyst.GetFromJsonAsync<JsonElement>($"/v1/sequences/{id}/forecasts/{two}"))
+            .GetProperty("state").GetString());
+
+        var edited = "Edited by the duty seismologist: the sequence is decaying as expected.\n\n" + generated;
         var release = await analyst.PostAsJsonAsync($"/v1/sequences/{id}/forecasts/{two}/release", new { advisoryText = edited });
         Assert.Equal(HttpStatusCode.OK, release.StatusCode);
         var advisory = (await release.Content.ReadFromJsonAsync<JsonElement>()).GetProperty("advisory");

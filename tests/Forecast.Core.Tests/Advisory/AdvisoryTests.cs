@@ -100,6 +100,27 @@ public class AdvisoryBuilderTests
     }
 
     [Fact]
+    public void AnEditMayRewordAndAddButNotDropANumberOrACaution()
+    {
+        // The cautions and the numbers beside the words are the project's rule for every published advisory (common
+        // practice in public hazard communication); an edit is checked against the generated text it replaces.
+        var a = AdvisoryBuilder.Build(Input());
+        const string agency = "the Demo Seismic Service";
+        var rewrapped = "Note from the duty seismologist: the sequence is slowing.\n\n" +
+            string.Join("\n", a.Statements.Select(st => st.Replace(". ", ".\n   ", StringComparison.Ordinal))) +
+            "\n" + string.Join(" ", a.Cautions);
+        Assert.Empty(AdvisoryBuilder.MissingFromEdit(rewrapped, a.Text, agency));
+        Assert.Empty(AdvisoryBuilder.MissingFromEdit(a.Text, a.Text, agency));
+
+        var withoutNumbers = rewrapped.Replace(a.Statements[1].Split(". ")[0], "In the next week, aftershocks are likely",
+            StringComparison.Ordinal);
+        Assert.Equal([a.Statements[1]], AdvisoryBuilder.MissingFromEdit(withoutNumbers, a.Text, agency));
+
+        var missing = AdvisoryBuilder.MissingFromEdit("All clear.", a.Text, agency);
+        Assert.Equal(a.Statements.Concat(a.Cautions), missing);
+    }
+
+    [Fact]
     public void NoAgencyOrNoCellsIsRefused()
     {
         Assert.Throws<ArgumentException>(() => AdvisoryBuilder.Build(Input() with { AgencyName = " " }));
