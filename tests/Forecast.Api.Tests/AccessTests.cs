@@ -80,6 +80,31 @@ public class AccessTests(ApiServer api) : IClassFixture<ApiServer>
     }
 
     [Fact]
+    public async Task ANewKeysLocationNamesItWithoutTheSecretAndShowsItsRevocation()
+    {
+        // RFC 9110, 15.3.2: a 201's Location identifies the resource created.
+        using var admin = api.Client(ApiServer.AdminKey);
+        var post = await admin.PostAsJsonAsync("/v1/keys", new { name = "located", role = "analyst" });
+        Assert.Equal(HttpStatusCode.Created, post.StatusCode);
+        var secret = (await post.Content.ReadFromJsonAsync<JsonElement>()).GetProperty("key").GetString()!;
+        var location = post.Headers.Location!.ToString();
+        var one = await admin.GetAsync(location);
+        Assert.Equal(HttpStatusCode.OK, one.StatusCode);
+        var text = await one.Content.ReadAsStringAsync();
+        Assert.DoesNotContain(secret, text);
+        var view = JsonDocument.Parse(text).RootElement;
+        Assert.Equal("located", view.GetProperty("name").GetString());
+        Assert.Equal(JsonValueKind.Null, view.GetProperty("revokedAt").ValueKind);
+
+        await admin.PostAsync(location + "/revoke", null);
+        var revoked = await admin.GetFromJsonAsync<JsonElement>(location);
+        Assert.NotEqual(JsonValueKind.Null, revoked.GetProperty("revokedAt").ValueKind);
+        var missing = await admin.GetAsync("/v1/keys/999999999");
+        Assert.Equal(HttpStatusCode.NotFound, missing.StatusCode);
+        Assert.Equal("application/problem+json", missing.Content.Headers.ContentType?.MediaType);
+    }
+
+    [Fact]
     public async Task KeyListingsNeverShowSecrets()
     {
         var secret = await api.NewKeyAsync("analyst", "listing check");

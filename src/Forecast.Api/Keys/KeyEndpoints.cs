@@ -22,6 +22,7 @@ public static class KeyEndpoints
         var group = app.MapGroup("/v1/keys").WithTags("Keys").RequireAuthorization(Policies.Admin);
         group.MapPost("/", CreateKey).WithName("CreateKey").WithSummary("Create a key (the secret is shown once)");
         group.MapGet("/", ListKeys).WithName("ListKeys").WithSummary("All keys, without secrets");
+        group.MapGet("/{id:long}", GetKey).WithName("GetKey").WithSummary("One key, without its secret");
         group.MapPost("/{id:long}/revoke", RevokeKey).WithName("RevokeKey").WithSummary("Revoke a key");
         return group;
     }
@@ -45,6 +46,9 @@ public static class KeyEndpoints
 
     static async Task<Ok<List<KeyView>>> ListKeys(ApiKeyStore store, CancellationToken ct) =>
         TypedResults.Ok((await store.ListAsync(ct)).Select(KeyView.From).ToList());
+
+    static async Task<Results<Ok<KeyView>, ProblemHttpResult>> GetKey(long id, ApiKeyStore store, CancellationToken ct) =>
+        await store.FindAsync(id, ct) is { } row ? TypedResults.Ok(KeyView.From(row)) : Problems.NotFound("key", id);
 
     static async Task<Results<Ok<KeyView>, ProblemHttpResult>> RevokeKey(
         long id, ApiKeyStore store, ApiKeyCache cache, CancellationToken ct)

@@ -87,6 +87,14 @@ public sealed class ApiKeyStore(NpgsqlDataSource db)
         return (await conn.QueryAsync<ApiKeyRow>(new CommandDefinition(sql, cancellationToken: ct))).AsList();
     }
 
+    /// <summary>One key by id, revoked or not (without its secret, which is never stored), or null.</summary>
+    public async Task<ApiKeyRow?> FindAsync(long id, CancellationToken ct)
+    {
+        const string sql = "select id, name, role, prefix, created_at, revoked_at from api_key where id = @id";
+        await using var conn = await db.OpenConnectionAsync(ct);
+        return await conn.QuerySingleOrDefaultAsync<ApiKeyRow>(new CommandDefinition(sql, new { id }, cancellationToken: ct));
+    }
+
     /// <summary>Revokes a key; returns the row (already revoked ones keep their first revocation time), or null.</summary>
     public async Task<ApiKeyRow?> RevokeAsync(long id, CancellationToken ct)
     {

@@ -159,6 +159,23 @@ public class DashboardEndpointTests(DashboardFixture fx) : IClassFixture<Dashboa
         var plot = await anonymous.GetAsync($"/v1/public/sequences/{fx.MainId}/plots/table.svg");
         Assert.Contains("default-src 'none'", string.Join(";", plot.Headers.GetValues("Content-Security-Policy")));
         Assert.Equal("nosniff", plot.Headers.GetValues("X-Content-Type-Options").Single());
+        // Routing ignores case, and so do the headers.
+        var shouted = await anonymous.GetAsync($"/v1/public/sequences/{fx.MainId}/PLOTS/table.svg");
+        Assert.Equal(HttpStatusCode.OK, shouted.StatusCode);
+        Assert.Equal(SecurityHeaders.SvgPolicy, shouted.Headers.GetValues("Content-Security-Policy").Single());
+        Assert.Equal("nosniff", shouted.Headers.GetValues("X-Content-Type-Options").Single());
+        var swagger = await anonymous.GetAsync("/swagger/index.html");
+        Assert.Equal(HttpStatusCode.OK, swagger.StatusCode);
+        Assert.Equal(SecurityHeaders.SwaggerPolicy, swagger.Headers.GetValues("Content-Security-Policy").Single());
+        Assert.Equal("nosniff", swagger.Headers.GetValues("X-Content-Type-Options").Single());
+        // Every other answer may load and run nothing, should a browser ever render it.
+        foreach (var data in new[] { "/v1/public/sequences", "/health/live", "/v1/no-such-path" })
+        {
+            var r = await anonymous.GetAsync(data);
+            Assert.Equal(SecurityHeaders.DataPolicy, r.Headers.GetValues("Content-Security-Policy").Single());
+            Assert.Equal("nosniff", r.Headers.GetValues("X-Content-Type-Options").Single());
+            Assert.Equal("no-referrer", r.Headers.GetValues("Referrer-Policy").Single());
+        }
         using var noRedirects = new HttpClient(new HttpClientHandler { AllowAutoRedirect = false })
         {
             BaseAddress = fx.Api.BaseAddress,

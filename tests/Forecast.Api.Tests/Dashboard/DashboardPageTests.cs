@@ -279,6 +279,22 @@ public class DashboardPageTests(DashboardFixture fx) : IClassFixture<DashboardFi
     }
 
     [Fact]
+    public async Task TheSwaggerUiRendersEveryOperationUnderItsContentSecurityPolicy()
+    {
+        // Chromium reports each blocked script, style, image or fetch as a console error (W3C CSP Level 3, 5.4),
+        // so a policy too strict for the page fails here as well as one missing.
+        var (page, errors) = await fx.NewPageAsync();
+        await using var _ = page;
+        var response = await page.GoToAsync(fx.Url("/swagger/index.html"), WaitUntilNavigation.Networkidle0);
+        Assert.Equal(Forecast.Api.Dashboard.SecurityHeaders.SwaggerPolicy, response.Headers["content-security-policy"]);
+        await page.WaitForFunctionAsync("() => document.querySelectorAll('.opblock').length >= 20", Within);
+        Assert.True(await page.EvaluateExpressionAsync<bool>(
+            "[...document.querySelectorAll('.opblock-summary-path')].some(e => e.textContent.includes('/v1/events'))"));
+        await Artifacts.ScreenshotAsync(page, "swagger-ui");
+        NoErrors(errors);
+    }
+
+    [Fact]
     public async Task ThePublicListLinksEveryReleasedSequenceMarkedAsAnExercise()
     {
         var (page, errors) = await fx.NewPageAsync();

@@ -166,6 +166,7 @@ public class AccessMatrixTests(MatrixServer api) : IClassFixture<MatrixServer>
         ["POST /v1/keys"] = new(Access.Admin, 201, (_, c) => Send(HttpMethod.Post, "/v1/keys",
             new { name = "made by " + c, role = "feeder" })),
         ["GET /v1/keys"] = new(Access.Admin, 200, (_, _) => Get("/v1/keys")),
+        ["GET /v1/keys/{id:long}"] = new(Access.Admin, 200, (a, _) => Get($"/v1/keys/{a.KeyToRevoke}")),
         ["POST /v1/keys/{id:long}/revoke"] = new(Access.Admin, 200, (a, _) => Send(HttpMethod.Post,
             $"/v1/keys/{a.KeyToRevoke}/revoke")),
 
