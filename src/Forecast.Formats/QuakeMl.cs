@@ -94,7 +94,12 @@ sealed class QuakeMlEventReader : IDisposable
         {
             // Some refusals (a DTD under DtdProcessing.Prohibit) carry no position: the reader's is then right.
             var known = e.LineNumber > 0;
-            throw new CatalogFormatException("The document is not well-formed XML or breaks a limit: " + e.Message,
+            // The framework's text for a prohibited DTD names its own settings; say what it means instead.
+            var why = e.Message.Contains("DTD", StringComparison.Ordinal)
+                ? "it has a DTD (document type declaration), which QuakeML does not use and which is refused because " +
+                  "its entities can read files or expand without bound"
+                : e.Message;
+            throw new CatalogFormatException("The document is not well-formed XML or breaks a limit: " + why,
                 known ? e.LineNumber : _where.LineNumber, known ? e.LinePosition : _where.LinePosition, e);
         }
         catch (CatalogFormatException e) when (e.Line == 0)

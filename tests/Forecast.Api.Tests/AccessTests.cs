@@ -41,6 +41,8 @@ public class AccessTests(ApiServer api) : IClassFixture<ApiServer>
         client.DefaultRequestHeaders.TryAddWithoutValidation("Authorization", header);
         var response = await client.GetAsync("/v1/events");
         Assert.Equal(HttpStatusCode.Unauthorized, response.StatusCode);
+        // RFC 9110, 11.6.1: a 401 carries a challenge; RFC 6750, 3: the Bearer scheme.
+        Assert.StartsWith("Bearer", response.Headers.WwwAuthenticate.Single().ToString(), StringComparison.Ordinal);
         var problem = await response.Content.ReadFromJsonAsync<JsonElement>();
         Assert.False(string.IsNullOrEmpty(problem.GetProperty("detail").GetString()));
     }

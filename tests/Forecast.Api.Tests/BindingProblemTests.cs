@@ -57,5 +57,27 @@ public class BindingProblemTests(ApiServer api) : IClassFixture<ApiServer>
         var response = await admin.PostAsync("/v1/keys", new StringContent("name=x", Encoding.UTF8, "application/x-www-form-urlencoded"));
         var problem = await Problem(response, HttpStatusCode.UnsupportedMediaType);
         Assert.Equal("urn:forecast:problem:unsupported-media-type", problem.GetProperty("type").GetString());
+        Assert.Equal("Unsupported content type", problem.GetProperty("title").GetString());
+    }
+
+    [Fact]
+    public async Task AnUnsupportedEventBodyNamesEveryFormatTheEndpointTakes()
+    {
+        using var feeder = api.Client(await api.NewKeyAsync("feeder"));
+        var response = await feeder.PostAsync("/v1/events", new StringContent("id=x", Encoding.UTF8, "application/x-www-form-urlencoded"));
+        var problem = await Problem(response, HttpStatusCode.UnsupportedMediaType);
+        Assert.Equal("Unsupported content type", problem.GetProperty("title").GetString());
+        var detail = problem.GetProperty("detail").GetString()!;
+        foreach (var type in new[] { "application/json", "application/vnd.quakeml+xml", "text/plain" })
+            Assert.Contains(type, detail, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task AnEmptyBatchSaysItHoldsNoEvents()
+    {
+        using var feeder = api.Client(await api.NewKeyAsync("feeder"));
+        var response = await feeder.PostAsync("/v1/events", new StringContent("[]", Encoding.UTF8, "application/json"));
+        var problem = await Problem(response, HttpStatusCode.BadRequest);
+        Assert.Equal("The batch holds no events; nothing was stored.", problem.GetProperty("detail").GetString());
     }
 }

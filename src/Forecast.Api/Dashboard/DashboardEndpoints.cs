@@ -139,6 +139,6 @@ public static class DashboardEndpoints
     /// when either changes.</summary>
     static string Version(ForecastRecord f) => $"?v={f.Number}-{f.State}";
 
-    static ProblemHttpResult UnknownPlot(string kind) => Problems.NotFound("plot",
-        $"{kind} (known: {string.Join(", ", PlotKinds.All.Select(PlotKinds.Slug))})");
+    static ProblemHttpResult UnknownPlot(string kind) => Problems.NotFound("plot", kind,
+        $"Known plots: {string.Join(", ", PlotKinds.All.Select(PlotKinds.Slug))}.");
 }

@@ -119,9 +119,9 @@ public static class EventEndpoints
                 : EventJson.Read(root, now, Stage);
             if (parsed.Errors.Count > 0)
             {
-                var detail = parsed.IsArray
-                    ? $"{Math.Max(parsed.BadItems, 1)} of {parsed.Count} events are not valid; nothing was stored."
-                    : "The event is not valid; nothing was stored.";
+                var detail = !parsed.IsArray ? "The event is not valid; nothing was stored."
+                    : parsed.Count == 0 ? "The batch holds no events; nothing was stored."
+                    : $"{Math.Max(parsed.BadItems, 1)} of {parsed.Count} events are not valid; nothing was stored.";
                 if (parsed.Errors.Count >= EventJson.MaxReportedErrors)
                     detail += $" Only the first {EventJson.MaxReportedErrors} problems are listed.";
                 return Problems.Invalid(parsed.Errors, detail);

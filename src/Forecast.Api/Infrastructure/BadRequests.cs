@@ -72,10 +72,34 @@ public static class BadRequestSetup
                 StatusCodes.Status405MethodNotAllowed => (Problems.TypeBase + "method-not-allowed",
                     problem.Detail ?? $"This path does not take {context.HttpContext.Request.Method}."),
                 StatusCodes.Status415UnsupportedMediaType => (Problems.TypeBase + "unsupported-media-type",
-                    problem.Detail ?? $"Content type '{context.HttpContext.Request.ContentType ?? "(none)"}' is not accepted here; send application/json."),
+                    problem.Detail ?? $"Content type '{context.HttpContext.Request.ContentType ?? "(none)"}' is not accepted here; send " +
+                    Accepted(context.HttpContext) + "."),
                 _ => (problem.Type, problem.Detail),
             };
+            // The same title as the service's own 415 (Problems.UnsupportedMediaType), for one vocabulary.
+            if (context.HttpContext.Response.StatusCode == StatusCodes.Status415UnsupportedMediaType)
+                problem.Title = "Unsupported content type";
         });
         return services;
+    }
+
+    /// <summary>The content types the endpoints of this method and path declare (their Accepts metadata), or JSON
+    /// when they declare none.</summary>
+    /// <remarks>Routing answers a content type no candidate accepts with an endpoint of its own that carries no
+    /// metadata, so the candidates are found again here; this runs only for a 415.</remarks>
+    static string Accepted(HttpContext http)
+    {
+        var request = http.Request;
+        var types = http.RequestServices.GetRequiredService<EndpointDataSource>().Endpoints
+            .OfType<RouteEndpoint>()
+            .Where(e => e.Metadata.GetMetadata<IHttpMethodMetadata>()?.HttpMethods.Contains(request.Method) ?? true)
+            .Where(e => new Microsoft.AspNetCore.Routing.Template.TemplateMatcher(
+                Microsoft.AspNetCore.Routing.Template.TemplateParser.Parse(e.RoutePattern.RawText ?? ""),
+                new RouteValueDictionary()).TryMatch(request.Path, new RouteValueDictionary()))
+            .SelectMany(e => e.Metadata.GetMetadata<Microsoft.AspNetCore.Http.Metadata.IAcceptsMetadata>()?.ContentTypes
+                ?? [])
+            .Distinct()
+            .ToList();
+        return types.Count > 0 ? string.Join(", ", types) : "application/json";
     }
 }

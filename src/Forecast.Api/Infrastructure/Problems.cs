@@ -7,8 +7,8 @@ public static class Problems
 {
     public const string TypeBase = "urn:forecast:problem:";
 
-    public static ProblemHttpResult NotFound(string what, object key) => Make(StatusCodes.Status404NotFound,
-        "not-found", "Not found", $"No {what} '{key}' exists.");
+    public static ProblemHttpResult NotFound(string what, object key, string? hint = null) => Make(
+        StatusCodes.Status404NotFound, "not-found", "Not found", $"No {what} '{key}' exists." + (hint is null ? "" : " " + hint));
 
     public static ProblemHttpResult BadRequest(string kind, string title, string detail) =>
         Make(StatusCodes.Status400BadRequest, kind, title, detail);

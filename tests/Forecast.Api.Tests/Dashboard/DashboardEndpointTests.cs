@@ -119,9 +119,11 @@ public class DashboardEndpointTests(DashboardFixture fx) : IClassFixture<Dashboa
         Assert.EndsWith(
             $"(forecast {pub.GetProperty("number").GetInt32()})", pubDoc.Root!.Element(Svg + "title")!.Value);
 
-        Assert.Equal(
-            HttpStatusCode.NotFound,
-            (await anonymous.GetAsync($"/v1/public/sequences/{fx.MainId}/plots/pie.svg")).StatusCode);
+        var pie = await anonymous.GetAsync($"/v1/public/sequences/{fx.MainId}/plots/pie.svg");
+        Assert.Equal(HttpStatusCode.NotFound, pie.StatusCode);
+        var detail = (await pie.Content.ReadFromJsonAsync<JsonElement>()).GetProperty("detail").GetString()!;
+        Assert.StartsWith("No plot 'pie' exists. Known plots: ", detail, StringComparison.Ordinal);
+        Assert.Contains("map", detail, StringComparison.Ordinal);
         Assert.Equal(
             HttpStatusCode.NotFound, (await anonymous.GetAsync("/v1/public/sequences/999999/plots/map.svg")).StatusCode);
     }
