@@ -105,7 +105,10 @@ static class ForecastText
         sb.AppendLine();
         var m = r.Completeness;
         sb.AppendLine(c, $"Completeness  Mc {m.Mc:0.0#} ({m.Source}); MAXC+0.2 {Opt(m.MaxCurvatureMc)} ± {Opt(m.MaxCurvatureSigma)}, goodness of fit {Opt(m.GoodnessOfFitMc)} ± {Opt(m.GoodnessOfFitSigma)}; bin {m.BinWidth}");
-        sb.AppendLine(c, $"Fit window    {r.FitStartDays:0.####} to {r.FitEndDays:0.####} days (start: {r.FitStartSource})");
+        if (r.FitEndDays > r.FitStartDays)
+            sb.AppendLine(c, $"Fit window    {r.FitStartDays:0.####} to {r.FitEndDays:0.####} days (start: {r.FitStartSource})");
+        else
+            sb.AppendLine(c, $"Fit window    none yet: the issue time, {r.FitEndDays:0.####} days, is before the fit start, {r.FitStartDays:0.####} days ({r.FitStartSource}); the forecast is the generic prior's");
         var b = r.BValue;
         sb.AppendLine(c, $"b-value       {b.B:0.000} ± {Opt(b.Sigma)} (Tinti-Mulargia {Opt(b.TintiMulargiaB)}, Aki-Utsu {Opt(b.AkiUtsuB)}; n = {b.Count}){(b.UsesGenericB ? "  generic b used: " + b.Reason : "")}");
         var o = r.Omori;

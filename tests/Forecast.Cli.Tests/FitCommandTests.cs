@@ -61,6 +61,23 @@ public sealed class FitCommandTests : IDisposable
     }
 
     [Fact]
+    public void ATableIssuedBeforeTheFitStartSaysThereIsNoFitWindowYet()
+    {
+        // Ten minutes after the mainshock, before the default fit start of 0.01 days (Helmstetter et al. 2006),
+        // no event can be fitted: the forecast rests on the generic prior alone, and the table says so.
+        var path = Path.Combine(_dir, "early.csv");
+        File.WriteAllText(path, """
+            id,time,lat,lon,depth,mag
+            m1,2026-02-01T00:00:00Z,1.0,2.0,10,6.0
+            a1,2026-02-01T00:10:00Z,1.1,2.1,8,3.1
+            """);
+        var run = CliRunner.Forecast("fit", path, "--format", "table", "--bootstrap", "0");
+        Assert.Equal(0, run.ExitCode);
+        Assert.Contains("Fit window    none yet: the issue time, 0.0069 days, is before the fit start, 0.01 days", run.Stdout);
+        Assert.Contains("the forecast is the generic prior's", run.Stdout);
+    }
+
+    [Fact]
     public void HeaderSynonymsAreMatchedWithoutRegardToCase()
     {
         var path = Path.Combine(_dir, "synonyms.csv");
