@@ -62,6 +62,7 @@ builder.Services.AddSwaggerGen(o =>
         Type = Microsoft.OpenApi.SecuritySchemeType.Http, Scheme = "bearer",
         Description = "An API key (feeder, analyst or admin).",
     });
+    o.OperationFilter<Forecast.Api.Infrastructure.ProblemResponses>();
     o.AddSecurityRequirement(document => new Microsoft.OpenApi.OpenApiSecurityRequirement
     {
         [new Microsoft.OpenApi.OpenApiSecuritySchemeReference("bearer", document)] = [],
