@@ -55,6 +55,12 @@ public class AccessTests(ApiServer api) : IClassFixture<ApiServer>
         var response = await feeder.GetAsync("/v1/keys");
         Assert.Equal(HttpStatusCode.Forbidden, response.StatusCode);
         Assert.Equal("application/problem+json", response.Content.Headers.ContentType!.MediaType);
+        Assert.Equal("This request needs a key of role admin; this key's role is feeder.",
+            (await response.Content.ReadFromJsonAsync<JsonElement>()).GetProperty("detail").GetString());
+        var release = await feeder.PostAsync("/v1/sequences/1/forecasts/1/release", null);
+        Assert.Equal(HttpStatusCode.Forbidden, release.StatusCode);
+        Assert.Equal("This request needs a key of role analyst or admin; this key's role is feeder.",
+            (await release.Content.ReadFromJsonAsync<JsonElement>()).GetProperty("detail").GetString());
     }
 
     [Fact]

@@ -30,7 +30,8 @@ public class DatabaseOutageTests(ITestOutputHelper output)
         // A key first used during the outage: its lookup needs the database, and must answer 503, not 401.
         var created = await admin.PostAsJsonAsync("/v1/keys", new { name = "outage feeder", role = "feeder" });
         created.EnsureSuccessStatusCode();
-        using var feeder = api.Client((await created.Content.ReadFromJsonAsync<JsonElement>()).GetProperty("key").GetString());
+        var feederKey = await created.Content.ReadFromJsonAsync<JsonElement>();
+        using var feeder = api.Client(feederKey.GetProperty("key").GetString());
         await api.WaitForAsync("the first forecast", TimeSpan.FromSeconds(60), async () =>
             await Scenario.LatestAsync(admin, sequenceId) is not null);
 
@@ -61,6 +62,13 @@ public class DatabaseOutageTests(ITestOutputHelper output)
         // Writes and reads: 503, Retry-After, problem details.
         await AssertUnavailable(await admin.PostAsJsonAsync("/v1/events", Scenario.Aftershocks(Source, "during", 10, seed: 2)));
         await AssertUnavailable(await feeder.PostAsJsonAsync("/v1/events", Scenario.Aftershocks(Source, "during", 10, seed: 2)));
+        // Every other kind of write: keys, sequences, forecasts.
+        await AssertUnavailable(await admin.PostAsJsonAsync("/v1/keys", new { name = "during outage", role = "analyst" }));
+        await AssertUnavailable(await admin.PostAsync($"/v1/keys/{feederKey.GetProperty("id").GetInt64()}/revoke", null));
+        await AssertUnavailable(await admin.PatchAsJsonAsync($"/v1/sequences/{sequenceId}", new { name = "renamed during outage" }));
+        await AssertUnavailable(await admin.PostAsJsonAsync($"/v1/sequences/{sequenceId}/forecasts", new { }));
+        await AssertUnavailable(await admin.PostAsync($"/v1/sequences/{sequenceId}/forecasts/1/release", null));
+        await AssertUnavailable(await admin.PostAsync($"/v1/sequences/{sequenceId}/close", null));
         // Polled reads may give their last answer for Polling:ReadReuse + Polling:RefreshWithin (0.2 s + 1 s by
         // default) after it was read, as documented; past that they too need the database.
         await Task.Delay(TimeSpan.FromSeconds(1.5));
@@ -96,6 +104,13 @@ public class DatabaseOutageTests(ITestOutputHelper output)
             await Scenario.LatestAsync(admin, sequenceId) is { } f
             && f.GetProperty("input").GetProperty("eventCount").GetInt32() == 1 + batch.Count + after.Count);
         Assert.False(api.HasExited);
+        // The writes refused during the outage changed nothing.
+        var sequence = await admin.GetFromJsonAsync<JsonElement>($"/v1/sequences/{sequenceId}");
+        Assert.NotEqual("renamed during outage", sequence.GetProperty("name").GetString());
+        Assert.Equal(JsonValueKind.Null, sequence.GetProperty("closedAt").ValueKind);
+        var keys = await admin.GetStringAsync("/v1/keys");
+        Assert.DoesNotContain("during outage", keys, StringComparison.Ordinal);
+        Assert.Equal(HttpStatusCode.OK, (await feeder.GetAsync("/v1/events?limit=1")).StatusCode);
         Step("writes and refits work again");
     }
 

@@ -21,6 +21,14 @@ public static class Policies
         .AddPolicy(Analyst, p => p.RequireRole("analyst", "admin"))
         .AddPolicy(Admin, p => p.RequireRole("admin"));
 
+    /// <summary>The roles a policy admits, in words, e.g. "analyst or admin".</summary>
+    public static string Admits(string policy) => policy switch
+    {
+        Feeder => "feeder, analyst or admin",
+        Analyst => "analyst or admin",
+        _ => policy,
+    };
+
     public static long? KeyId(ClaimsPrincipal user) =>
         long.TryParse(user.FindFirstValue(ClaimTypes.NameIdentifier), out var id) ? id : null;
 }
@@ -103,7 +111,12 @@ public sealed class ApiKeyHandler(
     protected override Task HandleForbiddenAsync(AuthenticationProperties properties)
     {
         Response.Headers.WWWAuthenticate = "Bearer error=\"insufficient_scope\"";
-        return Write(Problems.Forbidden("The key's role does not allow this request."));
+        var needed = Context.GetEndpoint()?.Metadata.GetOrderedMetadata<Microsoft.AspNetCore.Authorization.IAuthorizeData>()
+            .Select(a => a.Policy).LastOrDefault(p => p is not null);
+        var role = Context.User.FindFirstValue(ClaimTypes.Role) ?? "(none)";
+        return Write(Problems.Forbidden(needed is null
+            ? $"The key's role, {role}, does not allow this request."
+            : $"This request needs a key of role {Policies.Admits(needed)}; this key's role is {role}."));
     }
 
     Task Write(Microsoft.AspNetCore.Http.HttpResults.ProblemHttpResult problem) => problem.ExecuteAsync(Context);

@@ -68,7 +68,7 @@ public static class BadRequestSetup
             (problem.Type, problem.Detail) = context.HttpContext.Response.StatusCode switch
             {
                 StatusCodes.Status404NotFound => (Problems.TypeBase + "not-found",
-                    problem.Detail ?? "Nothing is served at this path; the OpenAPI description at /swagger/v1/swagger.json lists the routes."),
+                    problem.Detail ?? "Nothing is served at this path; the OpenAPI description at /swagger/v1/swagger.json lists the routes (Swagger UI at /swagger/, the dashboard at /dashboard/)."),
                 StatusCodes.Status405MethodNotAllowed => (Problems.TypeBase + "method-not-allowed",
                     problem.Detail ?? $"This path does not take {context.HttpContext.Request.Method}."),
                 StatusCodes.Status415UnsupportedMediaType => (Problems.TypeBase + "unsupported-media-type",
