@@ -77,6 +77,19 @@ public sealed class FitCommandTests : IDisposable
         Assert.Contains("the forecast is the generic prior's", run.Stdout);
     }
 
+    [Theory]
+    [InlineData("fit", "--mc", "abc", "Cannot parse argument 'abc' for option '--mc' as a number (for example 2.5).", "See 'forecast fit --help'.")]
+    [InlineData("simulate", "--seed", "x", "Cannot parse argument 'x' for option '--seed' as a whole number (for example 3).", "See 'forecast simulate --help'.")]
+    public void AnOptionThatIsNotANumberIsNamedInPlainWords(string command, string option, string value, string message, string help)
+    {
+        var run = command == "fit"
+            ? CliRunner.Forecast(command, option, value, Simulated())
+            : CliRunner.Forecast(command, option, value);
+        Assert.Equal(1, run.ExitCode);
+        Assert.Equal([message, help], run.Stderr.Trim().Split('\n').Select(l => l.TrimEnd('\r')));
+        Assert.DoesNotContain("System.", run.Stderr, StringComparison.Ordinal);
+    }
+
     [Fact]
     public void HeaderSynonymsAreMatchedWithoutRegardToCase()
     {
