@@ -12,7 +12,7 @@ root.Subcommands.Add(BenchRefitCommand.Create());
 root.Subcommands.Add(BenchUploadCommand.Create());
 root.Subcommands.Add(BenchPollCommand.Create());
 var parsed = root.Parse(args);
-if (parsed.Errors.Count > 0 && parsed.Errors.All(e => ParseMessages.IsTypeError(e.Message)))
+if (parsed.Errors.Any(e => ParseMessages.IsTypeError(e.Message)))
 {
     // System.CommandLine names the CLR type it expected ("System.Nullable`1[System.Double]"); say "a number".
     foreach (var error in parsed.Errors) Console.Error.WriteLine(ParseMessages.Plain(error.Message));
