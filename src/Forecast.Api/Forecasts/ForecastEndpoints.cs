@@ -25,14 +25,17 @@ public static class ForecastEndpoints
             .WithSummary("The newest forecast in any state, with ETag and Last-Modified; 304 on a matching If-None-Match");
         group.MapGet("/{number:int}", Get).WithName("GetForecast").RequireAuthorization()
             .WithSummary("One forecast, with ETag and Last-Modified");
-        group.MapPost("/", Compute).WithName("ComputeForecast").ProducesProblem(StatusCodes.Status409Conflict).RequireAuthorization(Policies.Analyst)
+        group.MapPost("/", Compute).WithName("ComputeForecast").RequireAuthorization(Policies.Analyst)
+            .ProducesProblem(StatusCodes.Status409Conflict)
             .WithSummary("Compute a forecast now (a draft), optionally with issue time, Mc, fit start, prior, windows, thresholds");
-        group.MapPost("/{number:int}/release", Release).WithName("ReleaseForecast").ProducesProblem(StatusCodes.Status409Conflict).RequireAuthorization(Policies.Analyst)
+        group.MapPost("/{number:int}/release", Release).WithName("ReleaseForecast").RequireAuthorization(Policies.Analyst)
+            .ProducesProblem(StatusCodes.Status409Conflict)
             .WithSummary("Release a draft, optionally with an edited advisory (the edit is kept beside the generated text)")
             .WithDescription("An edited advisory may reword and add, but must keep word for word every statement of a " +
                 "chance with its numbers and every standing caution of the generated text (white space may differ), " +
                 "and the exercise marker on a drill; otherwise 400 names each missing part.");
-        group.MapPost("/{number:int}/withdraw", Withdraw).WithName("WithdrawForecast").ProducesProblem(StatusCodes.Status409Conflict).RequireAuthorization(Policies.Analyst)
+        group.MapPost("/{number:int}/withdraw", Withdraw).WithName("WithdrawForecast").RequireAuthorization(Policies.Analyst)
+            .ProducesProblem(StatusCodes.Status409Conflict)
             .WithSummary("Withdraw a forecast: it is never shown publicly again");
         return group;
     }

@@ -13,19 +13,23 @@ public static class SequenceEndpoints
     public static RouteGroupBuilder MapSequences(this IEndpointRouteBuilder app)
     {
         var group = app.MapGroup("/v1/sequences").WithTags("Sequences");
-        group.MapPost("/", Declare).WithName("DeclareSequence").ProducesProblem(StatusCodes.Status409Conflict).RequireAuthorization(Policies.Analyst)
+        group.MapPost("/", Declare).WithName("DeclareSequence").RequireAuthorization(Policies.Analyst)
+            .ProducesProblem(StatusCodes.Status409Conflict)
             .WithSummary("Declare a mainshock (by event reference); 409 with its location when it already has a sequence");
         group.MapGet("/", List).WithName("ListSequences").RequireAuthorization()
             .WithSummary("Sequences, newest first; filter by status (active, closed)");
         group.MapGet("/{id:long}", Get).WithName("GetSequence").RequireAuthorization()
             .WithSummary("One sequence: mainshock, zone, choices, last fit error, mainshock changes");
-        group.MapGet("/{id:long}/events", Members).WithName("GetSequenceEvents").ProducesProblem(StatusCodes.Status409Conflict).RequireAuthorization()
+        group.MapGet("/{id:long}/events", Members).WithName("GetSequenceEvents").RequireAuthorization()
+            .ProducesProblem(StatusCodes.Status409Conflict)
             .WithSummary("The mainshock, foreshocks and aftershocks of the sequence as the catalog stands; by Accept, " +
                           "JSON (the default), QuakeML 1.2 (application/vnd.quakeml+xml, application/xml, text/xml) " +
                           "or FDSN event text (text/plain), all members in time order");
-        group.MapPatch("/{id:long}", Edit).WithName("EditSequence").ProducesProblem(StatusCodes.Status409Conflict).RequireAuthorization(Policies.Analyst)
+        group.MapPatch("/{id:long}", Edit).WithName("EditSequence").RequireAuthorization(Policies.Analyst)
+            .ProducesProblem(StatusCodes.Status409Conflict)
             .WithSummary("Change the name, zone, prior, Mc, fit start, exercise flag or background rate; queues a refit");
-        group.MapPost("/{id:long}/close", Close).WithName("CloseSequence").ProducesProblem(StatusCodes.Status409Conflict).RequireAuthorization(Policies.Analyst)
+        group.MapPost("/{id:long}/close", Close).WithName("CloseSequence").RequireAuthorization(Policies.Analyst)
+            .ProducesProblem(StatusCodes.Status409Conflict)
             .WithSummary("Close a sequence: no more refits");
         return group;
     }
