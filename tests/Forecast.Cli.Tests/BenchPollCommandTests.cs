@@ -14,13 +14,15 @@ public sealed class BenchPollCommandTests : IDisposable
     readonly TcpListener _listener = new(IPAddress.Loopback, 0);
     readonly CancellationTokenSource _stop = new();
     readonly string _url;
-    long _firstTick;
+    long _stallTick;
     int _requests;
 
-    /// <summary>From this many seconds after the first request (the 1 s warm-up, then 0.4 s into the run), for
-    /// <see cref="StallSeconds"/>, every answer waits until the stall ends: a pause of the whole service, as a long
-    /// garbage collection would make.</summary>
-    const double StallFrom = 1.4, StallSeconds = 0.3;
+    /// <summary>From the arrival of request number <see cref="StallAtRequest"/> (past the 200 of a 1 s warm-up at
+    /// 200/s, then 0.4 s into the run), for <see cref="StallSeconds"/>, every answer waits until the stall ends: a
+    /// pause of the whole service, as a long garbage collection would make. Counting requests rather than seconds
+    /// keeps the stall inside the run even when a loaded machine starts the run late.</summary>
+    const int StallAtRequest = 281;
+    const double StallSeconds = 0.3;
 
     public BenchPollCommandTests()
     {
@@ -63,17 +65,18 @@ public sealed class BenchPollCommandTests : IDisposable
                 Buffer.BlockCopy(buffer, end + 4, buffer, 0, filled - end - 4);
                 filled -= end + 4;
 
-                Interlocked.CompareExchange(ref _firstTick, System.Diagnostics.Stopwatch.GetTimestamp(), 0);
-                Interlocked.Increment(ref _requests);
+                if (Interlocked.Increment(ref _requests) == StallAtRequest)
+                    Interlocked.Exchange(ref _stallTick, System.Diagnostics.Stopwatch.GetTimestamp());
                 string answer;
                 if (path == "/hang") await Task.Delay(Timeout.Infinite, _stop.Token);   // never answers
                 if (path == "/fail") answer = "HTTP/1.1 500 Internal Server Error\r\nContent-Length: 0\r\n\r\n";
                 else if (path == "/ok") answer = "HTTP/1.1 200 OK\r\nTransfer-Encoding: chunked\r\n\r\n1\r\no\r\n1\r\nk\r\n0\r\n\r\n";
                 else
                 {
-                    var since = System.Diagnostics.Stopwatch.GetElapsedTime(Interlocked.Read(ref _firstTick)).TotalSeconds;
-                    if (since >= StallFrom && since < StallFrom + StallSeconds)
-                        await Task.Delay(TimeSpan.FromSeconds(StallFrom + StallSeconds - since));
+                    var stalled = Interlocked.Read(ref _stallTick);
+                    var since = stalled == 0 ? -1 : System.Diagnostics.Stopwatch.GetElapsedTime(stalled).TotalSeconds;
+                    if (since >= 0 && since < StallSeconds)
+                        await Task.Delay(TimeSpan.FromSeconds(StallSeconds - since));
                     answer = "HTTP/1.1 200 OK\r\nContent-Length: 2\r\n\r\nok";
                 }
                 await stream.WriteAsync(Encoding.ASCII.GetBytes(answer), _stop.Token);
