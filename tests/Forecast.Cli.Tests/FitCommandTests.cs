@@ -16,6 +16,14 @@ public sealed class FitCommandTests : IDisposable
         return path;
     }
 
+    /// <summary>Writes <paramref name="content"/> as a catalog file in the test's folder and returns its path.</summary>
+    string Catalog(string name, string content)
+    {
+        var path = Path.Combine(_dir, name);
+        File.WriteAllText(path, content);
+        return path;
+    }
+
     [Fact]
     public void SimulateIsReproducibleForASeed()
     {
@@ -65,8 +73,7 @@ public sealed class FitCommandTests : IDisposable
     {
         // Ten minutes after the mainshock, before the default fit start of 0.01 days (Helmstetter et al. 2006),
         // no event can be fitted: the forecast rests on the generic prior alone, and the table says so.
-        var path = Path.Combine(_dir, "early.csv");
-        File.WriteAllText(path, """
+        var path = Catalog("early.csv", """
             id,time,lat,lon,depth,mag
             m1,2026-02-01T00:00:00Z,1.0,2.0,10,6.0
             a1,2026-02-01T00:10:00Z,1.1,2.1,8,3.1
@@ -93,8 +100,7 @@ public sealed class FitCommandTests : IDisposable
     [Fact]
     public void HeaderSynonymsAreMatchedWithoutRegardToCase()
     {
-        var path = Path.Combine(_dir, "synonyms.csv");
-        File.WriteAllText(path, """
+        var path = Catalog("synonyms.csv", """
             EVENT_ID,Origin_Time,Latitude,LONGITUDE,Depth_Km,Magnitude
             m1,2026-02-01T00:00:00Z,1.0,2.0,10,6.0
             a1,2026-02-01T01:00:00Z,1.1,2.1,8,3.5
@@ -113,8 +119,7 @@ public sealed class FitCommandTests : IDisposable
     [InlineData("time,lat,lon,mag\nnot-a-time,1,2,3\n", "time")]
     public void BadFilesAreReportedInOneLineWithExitCodeOne(string content, string word)
     {
-        var path = Path.Combine(_dir, "bad.csv");
-        File.WriteAllText(path, content);
+        var path = Catalog("bad.csv", content);
         var run = CliRunner.Forecast("fit", path);
         Assert.Equal(1, run.ExitCode);
         Assert.Contains(word, run.Stderr);
